@@ -1,0 +1,105 @@
+package analysis
+
+import (
+	"context"
+	"fmt"
+
+	"whirlfit/dsp"
+)
+
+// Config sets up a whole analysis. Its zero value means defaults.
+type Config struct {
+	// Blades is the propeller's blade count; 0 lets the tracker estimate it
+	// from the harmonic comb (and say so in a warning).
+	Blades int
+	// Channel is the 1-based channel to analyse; 0 means the mix of all.
+	Channel int
+	// TriggerChannel is the 1-based channel that carries the throttle
+	// command (a trigger or PWM line); 0 means none.
+	TriggerChannel int
+	// CommandTimesS are throttle command times given by the user, seconds.
+	CommandTimesS []float64
+	// Track and Steps tune the two stages; zero values mean defaults.
+	Track TrackConfig
+	Steps StepConfig
+}
+
+// Progress reports how far a long stage has come. stage names it ("track",
+// "fit"); done of total units are finished. It may be nil and is called from
+// worker goroutines.
+type Progress func(stage string, done, total int)
+
+// Run analyses one decoded recording: it tracks the rotor speed, finds or
+// takes the throttle steps and fits each one. The command line and the
+// window both call it.
+func Run(ctx context.Context, a *dsp.Audio, cfg Config, progress Progress) (*Report, error) {
+	ch := dsp.Mix
+	if cfg.Channel > 0 {
+		ch = cfg.Channel - 1
+	}
+	sig, err := a.Signal(ch)
+	if err != nil {
+		return nil, err
+	}
+	rep := &Report{Blades: cfg.Blades, SampleRateHz: float64(a.SampleRate), DurationS: a.DurationS(), Config: cfg}
+	rep.Warnings = append(rep.Warnings, a.Warnings...)
+	if a.NonFinite > 0 {
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("%d NaN or infinite samples were replaced by 0", a.NonFinite))
+	}
+
+	steps := cfg.Steps
+	steps.CommandTimesS = cfg.CommandTimesS
+	if cfg.TriggerChannel > 0 {
+		if cfg.TriggerChannel-1 == ch {
+			return nil, fmt.Errorf("analysis: the trigger channel %d is also the analysed channel", cfg.TriggerChannel)
+		}
+		trig, err := a.Signal(cfg.TriggerChannel - 1)
+		if err != nil {
+			return nil, err
+		}
+		edges := TriggerEdges(trig)
+		if len(edges) == 0 {
+			rep.Warnings = append(rep.Warnings, fmt.Sprintf("no edges found on trigger channel %d", cfg.TriggerChannel))
+		}
+		steps.CommandTimesS = append(append([]float64(nil), steps.CommandTimesS...), edges...)
+		// The analysed channel must not be a mix that includes the trigger.
+		if ch == dsp.Mix {
+			ch = 0
+			if cfg.TriggerChannel == 1 {
+				ch = 1
+			}
+			if sig, err = a.Signal(ch); err != nil {
+				return nil, err
+			}
+		}
+	}
+
+	tc := cfg.Track
+	if tc.Blades == 0 {
+		tc.Blades = cfg.Blades
+	}
+	var trackProgress func(done, total int)
+	if progress != nil {
+		trackProgress = func(done, total int) { progress("track", done, total) }
+	}
+	tr, spec, err := TrackSignal(ctx, sig, tc, trackProgress)
+	if err != nil {
+		return nil, err
+	}
+	rep.Track, rep.Spectrogram, rep.Blades = tr, spec, tr.Blades
+	rep.Warnings = append(rep.Warnings, tr.Warnings...)
+
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("analysis: cancelled: %w", err)
+	}
+	res, warn := AnalyseSteps(tr, steps)
+	rep.Steps = res
+	rep.Warnings = append(rep.Warnings, warn...)
+	if rep.Steps == nil {
+		rep.Steps = []StepResult{}
+	}
+	if rep.Warnings == nil {
+		rep.Warnings = []string{}
+	}
+	return rep, nil
+}
