@@ -94,4 +94,3 @@ func recoverDecoder(name, format string, err *error) {
 		*err = &FormatError{File: name, Msg: fmt.Sprintf("damaged %s data (the decoder failed: %v)", format, r)}
 	}
 }
-

@@ -127,4 +127,3 @@ func decodeMP3(name string, data []byte, limit int) (a *Audio, err error) {
 		Warnings:   warnings,
 	}, nil
 }
-
