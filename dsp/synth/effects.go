@@ -207,25 +207,27 @@ func convolve(x, h []float64) []float64 {
 	return out[:len(x)]
 }
 
-// agc applies a slow automatic gain control in place: the signal power is
-// followed by a one-pole smoother with attack time timeS/10 and release time
-// timeS, and the gain brings the smoothed RMS towards target, never
-// exceeding maxGain. It reproduces the pumping of a phone's gain control:
-// level jumps after loud onsets and noise rising in quiet passages.
+// agc applies a slow automatic gain control in place. The signal power is
+// first smoothed over timeS/10 (removing the waveform's own ripple), then
+// followed with attack time timeS/10 and release time timeS; the gain brings
+// that RMS to target and never exceeds maxGain. It reproduces the pumping
+// of a phone's gain control: the level dips after loud onsets and the noise
+// rises in quiet passages.
 func agc(x []float64, timeS, target, maxGain, fs float64) {
-	att := math.Exp(-1 / (timeS / 10 * fs))
+	fast := math.Exp(-1 / (timeS / 10 * fs))
 	rel := math.Exp(-1 / (timeS * fs))
 	// Start from the power of the first 50 ms so the gain does not leap.
 	n0 := min(len(x), int(0.05*fs)+1)
-	p := meanPower(x[:n0]) + 1e-12
+	p1 := meanPower(x[:n0])
+	p2 := p1
 	for i, v := range x {
-		e := v * v
-		if e > p {
-			p = att*p + (1-att)*e
+		p1 = fast*p1 + (1-fast)*v*v
+		if p1 > p2 {
+			p2 = fast*p2 + (1-fast)*p1
 		} else {
-			p = rel*p + (1-rel)*e
+			p2 = rel*p2 + (1-rel)*p1
 		}
-		g := target / math.Sqrt(p+1e-12)
+		g := target / math.Sqrt(p2+1e-20)
 		if g > maxGain {
 			g = maxGain
 		}

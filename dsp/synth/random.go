@@ -1,0 +1,382 @@
+package synth
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strings"
+)
+
+// Range is a closed interval [Min, Max] from which a value is drawn
+// uniformly (Min = Max pins it).
+type Range struct{ Min, Max float64 }
+
+func (r Range) draw(rng *rand.Rand) float64 {
+	if r.Max <= r.Min {
+		return r.Min
+	}
+	return r.Min + (r.Max-r.Min)*rng.Float64()
+}
+
+// drawLog draws log-uniformly (both ends must be > 0).
+func (r Range) drawLog(rng *rand.Rand) float64 {
+	if r.Max <= r.Min || r.Min <= 0 {
+		return r.Min
+	}
+	return r.Min * math.Exp(math.Log(r.Max/r.Min)*rng.Float64())
+}
+
+// RandomOptions sets the ranges RandomScene draws from. Start from
+// DefaultRandomOptions and change what a test needs.
+type RandomOptions struct {
+	// SampleRates to choose from, Hz.
+	SampleRates []int
+	// Blades is the range of blade counts (inclusive).
+	MinBlades, MaxBlades int
+	// ShaftHz bounds every steady shaft frequency.
+	ShaftHz Range
+	// SNRdB as defined on Scene.
+	SNRdB Range
+	// TauS and DeadS: time constants (drawn log-uniformly) and dead times.
+	TauS, DeadS Range
+	// DownTauFactor multiplies τ for down steps (drawn per step, the result
+	// kept within TauS; 1–1 makes up and down alike).
+	DownTauFactor Range
+	// MinSteps, MaxSteps bound the number of throttle steps; at least one
+	// goes up and one down when MinSteps ≥ 2.
+	MinSteps, MaxSteps int
+	// MinGapS is the shortest time between two commands. A gap is never
+	// shorter than SettleTaus·τ + θ of the step before it either, so that
+	// every step settles enough to be fitted (0 = no such rule).
+	MinGapS    float64
+	SettleTaus float64
+	// MinChange is the smallest relative change of a step, |Δ|/r0. When
+	// ShaftHz is too narrow for it, a step may be smaller.
+	MinChange float64
+	// Impairment is the probability that each impairment (high-pass,
+	// reverberation, hum, fixed tone, other machine, clipping, AGC, rotor
+	// broadband noise, speed jitter) is switched on; 0 gives clean scenes.
+	Impairment float64
+	// Standstill is the probability that the recording starts with the motor
+	// stopped; the first step is then a spin-up from 0 Hz. Ramp is the
+	// probability of a slow throttle ramp before the first step or after
+	// the last. Stereo is the probability that the case carries a trigger
+	// channel (Case.Trigger).
+	Standstill, Ramp, Stereo float64
+	// MaxDurationS bounds the recording's length (0 = no bound other than
+	// what the steps need).
+	MaxDurationS float64
+}
+
+// DefaultRandomOptions returns the ranges of whirlfit's held-out benchmark:
+// 16, 44.1 and 48 kHz; 2–5 blades; shaft 80–550 Hz (4,800–33,000 rpm); SNR
+// −5…30 dB; τ 8–120 ms; θ 0–15 ms; 2–6 steps at least 0.25 s apart; each
+// impairment on with probability 0.5.
+func DefaultRandomOptions() *RandomOptions {
+	return &RandomOptions{
+		SampleRates:   []int{16000, 44100, 48000},
+		MinBlades:     2,
+		MaxBlades:     5,
+		ShaftHz:       Range{80, 550},
+		SNRdB:         Range{-5, 30},
+		TauS:          Range{0.008, 0.120},
+		DeadS:         Range{0, 0.015},
+		DownTauFactor: Range{1, 1.8},
+		MinSteps:      2,
+		MaxSteps:      6,
+		MinGapS:       0.25,
+		SettleTaus:    3,
+		MinChange:     0.15,
+		Impairment:    0.5,
+		Standstill:    0.15,
+		Ramp:          0.15,
+		Stereo:        0.3,
+	}
+}
+
+// Case is a random scene with everything needed to check an analysis of it.
+type Case struct {
+	Scene Scene
+	Truth Truth
+	// Bits is a suggested file coding for the case (PCM16, PCM24 or Float32).
+	Bits int
+	// Trigger, when not nil, is a command channel to render with
+	// RenderStereo.
+	Trigger *Trigger
+}
+
+// Truth is what an analysis of a Case should find.
+type Truth struct {
+	Blades int
+	// Shaft is the true shaft frequency (the scene's trajectory; rendered
+	// speed jitter, Rotor.JitterRel, is not part of it).
+	Shaft Trajectory
+	// StartHz is the frequency at t = 0 (0 for a start from standstill).
+	StartHz float64
+	// Steps are the throttle steps in time order. A spin-up from standstill
+	// is Steps[0] with FromHz = 0 when Standstill is true.
+	Steps      []StepTruth
+	Standstill bool
+	// Ramps are slow throttle ramps, where no step must be found.
+	Ramps []RampTruth
+	// Impairments names what is switched on, for test logs.
+	Impairments []string
+}
+
+// RampTruth is a linear change of shaft frequency from FromHz at T0S to
+// ToHz at T1S.
+type RampTruth struct{ T0S, T1S, FromHz, ToHz float64 }
+
+// String summarises the case on one line for test logs.
+func (c Case) String() string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "fs=%d B=%d SNR=%.1fdB %.2fs steps=[", c.Scene.SampleRate, c.Truth.Blades, c.Scene.SNRdB, c.Scene.DurationS)
+	for i, s := range c.Truth.Steps {
+		if i > 0 {
+			b.WriteString(" ")
+		}
+		fmt.Fprintf(&b, "%.3fs %.0f→%.0fHz τ=%.1fms θ=%.1fms", s.CommandS, s.FromHz, s.TargetHz, 1e3*s.TauS, 1e3*s.DeadS)
+	}
+	fmt.Fprintf(&b, "] bits=%d", c.Bits)
+	if c.Trigger != nil {
+		b.WriteString(" +trigger")
+	}
+	if len(c.Truth.Impairments) > 0 {
+		b.WriteString(" " + strings.Join(c.Truth.Impairments, ","))
+	}
+	return b.String()
+}
+
+// RandomScene draws a varied scene and its truth from rng; opts nil means
+// DefaultRandomOptions. The same rng state gives the same case.
+func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
+	if opts == nil {
+		opts = DefaultRandomOptions()
+	}
+	o := *opts
+	if len(o.SampleRates) == 0 {
+		o.SampleRates = []int{48000}
+	}
+	o.MinBlades = max(o.MinBlades, 1)
+	o.MaxBlades = max(o.MaxBlades, o.MinBlades)
+	o.MinSteps = max(o.MinSteps, 0)
+	o.MaxSteps = max(o.MaxSteps, o.MinSteps)
+	on := func() bool { return rng.Float64() < o.Impairment }
+	var imp []string
+
+	fs := o.SampleRates[rng.IntN(len(o.SampleRates))]
+	blades := o.MinBlades + rng.IntN(o.MaxBlades-o.MinBlades+1)
+	rotor := randomRotor(rng, blades)
+	if on() {
+		rotor.JitterRel = 0.0005 + 0.0015*rng.Float64()
+		imp = append(imp, fmt.Sprintf("jitter%.2f%%", 100*rotor.JitterRel))
+	}
+
+	// Levels and steps.
+	nSteps := o.MinSteps + rng.IntN(o.MaxSteps-o.MinSteps+1)
+	lo, hi := o.ShaftHz.Min, math.Max(o.ShaftHz.Max, o.ShaftHz.Min)
+	level := lo + (hi-lo)*rng.Float64()
+	standstill := rng.Float64() < o.Standstill
+	t := 0.5 + rng.Float64() // lead-in before the first command
+	var ramps []RampTruth
+	if !standstill && rng.Float64() < o.Ramp {
+		// A slow ramp in the lead-in: 1.5–3 s, up to ±10 % of the level.
+		d := 1.5 + 1.5*rng.Float64()
+		to := clampF(level*(1+0.2*(rng.Float64()-0.5)), lo, hi)
+		t0 := t
+		ramps = append(ramps, RampTruth{T0S: t0, T1S: t0 + d, FromHz: level, ToHz: to})
+		t = t0 + d + 0.5 + 0.5*rng.Float64()
+		imp = append(imp, "ramp")
+	}
+	start := level
+	if ramps != nil {
+		level = ramps[0].ToHz
+	}
+	level0 := level // where the steps start from
+	var steps []Step
+	gapAfter := func(s Step) float64 {
+		g := o.MinGapS
+		if o.SettleTaus > 0 {
+			g = math.Max(g, o.SettleTaus*s.TauS+s.DeadS)
+		}
+		if rng.Float64() < 0.3 {
+			return g * (1 + 0.5*rng.Float64()) // closely spaced
+		}
+		return math.Max(g, 0.6+1.4*rng.Float64())
+	}
+	if standstill {
+		start, level0 = 0, 0
+		s := Step{CommandS: t, TargetHz: level, TauS: Range{0.08, 0.35}.drawLog(rng), DeadS: o.DeadS.draw(rng)}
+		steps = append(steps, s)
+		t += gapAfter(s)
+		imp = append(imp, "standstill")
+	}
+	prevUp := rng.IntN(2) == 0
+	for i := range nSteps {
+		up := !prevUp
+		if i >= 2 && rng.Float64() < 0.35 {
+			up = prevUp // sometimes two steps the same way
+		}
+		target, ok := nextLevel(rng, level, lo, hi, o.MinChange, up)
+		if !ok {
+			up = !up
+			target, _ = nextLevel(rng, level, lo, hi, o.MinChange, up)
+		}
+		tau := o.TauS.drawLog(rng)
+		if !up {
+			tau = math.Min(tau*o.DownTauFactor.draw(rng), math.Max(o.TauS.Max, o.TauS.Min))
+		}
+		s := Step{CommandS: t, TargetHz: target, TauS: tau, DeadS: o.DeadS.draw(rng)}
+		steps = append(steps, s)
+		t += gapAfter(s)
+		level, prevUp = target, up
+	}
+	t += 0.3 + 0.7*rng.Float64() // settled tail
+	if o.MaxDurationS > 0 {
+		t = math.Min(t, o.MaxDurationS)
+	}
+	shaft := Steps(level0, steps...)
+	truthSteps := StepsTruth(level0, steps...)
+	if ramps != nil {
+		// The ramp ends before the first command; the steps start from its
+		// end level.
+		rp, st, t1 := Ramp(ramps[0].T0S, ramps[0].T1S, ramps[0].FromHz, ramps[0].ToHz), shaft, ramps[0].T1S
+		shaft = func(t float64) float64 {
+			if t < t1 {
+				return rp(t)
+			}
+			return st(t)
+		}
+	}
+	// Drop steps cut off by MaxDurationS before they settle.
+	kept := truthSteps[:0]
+	for _, s := range truthSteps {
+		if s.StartS()+math.Max(o.SettleTaus, 1)*s.TauS < t {
+			kept = append(kept, s)
+		}
+	}
+	truthSteps = kept
+
+	sc := Scene{
+		SampleRate: fs,
+		DurationS:  t,
+		Shaft:      shaft,
+		Rotor:      rotor,
+		SNRdB:      o.SNRdB.draw(rng),
+		NoiseColor: NoiseColor(rng.IntN(3)),
+		PeakLevel:  0.3 + 0.6*rng.Float64(),
+		Seed:       rng.Uint64(),
+	}
+	imp = append(imp, sc.NoiseColor.String())
+	if on() {
+		sc.RotorNoiseShare = 0.2 + 0.6*rng.Float64()
+		imp = append(imp, fmt.Sprintf("rotornoise%.0f%%", 100*sc.RotorNoiseShare))
+	}
+	if on() {
+		sc.HighPassHz = 80 + 220*rng.Float64()
+		sc.HighPassOrder = 2 + 2*rng.IntN(2)
+		imp = append(imp, fmt.Sprintf("highpass%.0fHz/%d", sc.HighPassHz, sc.HighPassOrder))
+	}
+	if on() {
+		sc.ReverbS = Range{0.1, 1.2}.drawLog(rng)
+		sc.ReverbDRRdB = -3 + 18*rng.Float64()
+		imp = append(imp, fmt.Sprintf("reverb%.2fs/%.0fdB", sc.ReverbS, sc.ReverbDRRdB))
+	}
+	if on() {
+		sc.HumHz = []float64{50, 60}[rng.IntN(2)]
+		sc.HumDB = -20 + 25*rng.Float64()
+		imp = append(imp, fmt.Sprintf("hum%.0fHz/%.0fdB", sc.HumHz, sc.HumDB))
+	}
+	if on() {
+		sc.ToneHz = Range{300, math.Min(8000, 0.4*float64(fs))}.drawLog(rng)
+		sc.ToneDB = -15 + 20*rng.Float64()
+		imp = append(imp, fmt.Sprintf("tone%.0fHz/%.0fdB", sc.ToneHz, sc.ToneDB))
+	}
+	if on() {
+		b := 2 + rng.IntN(3)
+		f0 := Range{60, 600}.drawLog(rng)
+		m := Machine{
+			Rotor:   randomRotor(rng, b),
+			Shaft:   Ramp(0, t, f0, f0*(1+0.1*(rng.Float64()-0.5))),
+			LevelDB: -20 + 20*rng.Float64(),
+		}
+		sc.Others = append(sc.Others, m)
+		imp = append(imp, fmt.Sprintf("other%dx%.0fHz/%.0fdB", b, f0, m.LevelDB))
+	}
+	if on() {
+		sc.ClipLevel = 0.3 + 0.6*rng.Float64()
+		imp = append(imp, fmt.Sprintf("clip%.2f", sc.ClipLevel))
+	}
+	if on() {
+		sc.AGCS = Range{0.3, 3}.drawLog(rng)
+		imp = append(imp, fmt.Sprintf("agc%.1fs", sc.AGCS))
+	}
+	c := Case{
+		Scene: sc,
+		Truth: Truth{
+			Blades:      blades,
+			Shaft:       shaft,
+			StartHz:     start,
+			Steps:       truthSteps,
+			Standstill:  standstill,
+			Ramps:       ramps,
+			Impairments: imp,
+		},
+		Bits: []int{PCM16, PCM24, Float32}[rng.IntN(3)],
+	}
+	if rng.Float64() < o.Stereo {
+		tg := &Trigger{Kind: TriggerKind(rng.IntN(2))}
+		for _, s := range truthSteps {
+			tg.CommandS = append(tg.CommandS, s.CommandS)
+		}
+		if rng.IntN(2) == 0 {
+			tg.ACHz = 5 + 45*rng.Float64()
+		}
+		c.Trigger = tg
+	}
+	return c
+}
+
+// randomRotor draws a rotor's relative levels: engineering judgement of the
+// spread between motors and propellers.
+func randomRotor(rng *rand.Rand, blades int) Rotor {
+	r := Rotor{
+		Blades:         blades,
+		BladeHarmonics: 2 + rng.IntN(5),
+		BladeLevel:     1,
+		BladeRolloff:   0.5 + rng.Float64(),
+		ShaftHarmonics: 1 + rng.IntN(3),
+		ShaftLevel:     Range{0.05, 0.6}.drawLog(rng),
+		RefHz:          300,
+		LevelExponent:  1.5 + rng.Float64(),
+		SpreadDB:       1 + 3*rng.Float64(),
+		AMDepth:        0.08 * rng.Float64(),
+		AMRateHz:       1 + 5*rng.Float64(),
+	}
+	if rng.Float64() < 0.8 {
+		r.PolePairs = []int{4, 6, 7, 7, 7, 10, 12, 14}[rng.IntN(8)]
+		r.WhineLevel = Range{0.02, 0.3}.drawLog(rng)
+	}
+	return r
+}
+
+// nextLevel draws a new steady level from level in direction up, at least
+// minChange relative change away, within [lo, hi].
+func nextLevel(rng *rand.Rand, level, lo, hi, minChange float64, up bool) (float64, bool) {
+	if up {
+		a := level * (1 + minChange)
+		b := math.Min(hi, level*1.9)
+		if a > b {
+			return level, false
+		}
+		return a + (b-a)*rng.Float64(), true
+	}
+	a := math.Max(lo, level*0.45)
+	b := level * (1 - minChange)
+	if a > b {
+		return level, false
+	}
+	return a + (b-a)*rng.Float64(), true
+}
+
+func clampF(x, lo, hi float64) float64 { return math.Max(lo, math.Min(hi, x)) }
