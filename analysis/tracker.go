@@ -1,0 +1,605 @@
+package analysis
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"slices"
+
+	"whirlfit/dsp"
+)
+
+// TrackConfig tunes the ridge tracker. Its zero value means defaults.
+type TrackConfig struct {
+	// Blades is the propeller's blade count; 0 estimates it from the
+	// harmonic comb and says so in a warning.
+	Blades int
+	// MinShaftHz and MaxShaftHz bound the shaft frequencies searched
+	// (defaults 40 and 1000 Hz: 2,400–60,000 rpm). MaxShaftHz is lowered to
+	// what the sample rate can show.
+	MinShaftHz, MaxShaftHz float64
+	// STFT sets the frames of the output track (the refinement pass). Zero
+	// fields are chosen from the speed found by the search pass: a Hann
+	// frame of about 4.5 periods of the lowest shaft speed (a power of two,
+	// so that neighbouring shaft-order lines lie about 4 bins apart), and a
+	// hop of about 2.5 ms. A shorter frame resolves faster changes; each
+	// track sample sees the true speed through Track.Kernel.
+	STFT dsp.STFTConfig
+	// MaxAccelHzPerS bounds how fast the shaft frequency may change between
+	// frames of the search pass (default 60,000 Hz/s: a 300 Hz step with a
+	// time constant of 5 ms starts at that slope, faster than small
+	// multirotor motors are reported to spin up — common practice).
+	MaxAccelHzPerS float64
+}
+
+// Defaults of the tracker.
+const (
+	defaultMinShaftHz = 40
+	defaultMaxShaftHz = 1000
+	defaultMaxAccel   = 60000
+	// candidateStep is the relative spacing of the search grid, 0.25 %.
+	candidateStep = 0.0025
+	// searchFrameS is the search pass's minimum frame (a long Hann window
+	// finds weak combs); searchHopS its hop.
+	searchFrameS = 0.06
+	searchHopS   = 0.01
+	// maxSearchFrames bounds the search pass's salience matrix (frames ×
+	// candidates float32 and int16): the hop grows on long files.
+	maxSearchFrames = 12000
+	// refineCycles is the refinement frame in periods of the lowest speed.
+	refineCycles = 4.5
+	// refineHopS is the default hop of the output track.
+	refineHopS = 0.0025
+	// maxDisplayFrames bounds the display spectrogram's rows.
+	maxDisplayFrames = 2000
+	// pathSlopeCost is the Viterbi cost of a change of ln f by 1, in units
+	// of the file's typical frame salience; voicingCost is the cost of
+	// switching between motor and no motor, in the same units.
+	pathSlopeCost = 1.0
+	voicingCost   = 0.5
+	// refineMinZ is the least excess (nepers, 2.1 = 9 dB) of a harmonic's
+	// peak over the noise floor for it to enter the pooled estimate.
+	refineMinZ = 2.1
+	// refineHarmonics bounds the harmonics used in refinement, in multiples
+	// of the blade count.
+	refineHarmonics = 8
+)
+
+func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
+	if c.Blades < 0 {
+		return c, fmt.Errorf("analysis: blade count %d is negative", c.Blades)
+	}
+	if c.MinShaftHz == 0 {
+		c.MinShaftHz = defaultMinShaftHz
+	}
+	if c.MaxShaftHz == 0 {
+		c.MaxShaftHz = defaultMaxShaftHz
+	}
+	if c.MaxAccelHzPerS == 0 {
+		c.MaxAccelHzPerS = defaultMaxAccel
+	}
+	// The blade-pass line must stay below Nyquist.
+	b := max(c.Blades, 1)
+	c.MaxShaftHz = min(c.MaxShaftHz, 0.45*fs/float64(b))
+	if !(c.MinShaftHz > 0) || !(c.MaxShaftHz > c.MinShaftHz) || math.IsInf(c.MaxShaftHz, 0) {
+		return c, fmt.Errorf("analysis: shaft range %g–%g Hz is empty or invalid at %g Hz sampling", c.MinShaftHz, c.MaxShaftHz, fs)
+	}
+	if !(c.MaxAccelHzPerS > 0) {
+		return c, fmt.Errorf("analysis: maximum acceleration %g Hz/s must be positive", c.MaxAccelHzPerS)
+	}
+	return c, nil
+}
+
+// TrackSignal tracks the rotor speed of sig. It returns one track sample per
+// refinement frame and a display spectrogram of at most a few thousand
+// frames (from the search pass's long window).
+//
+// Method, in three stages:
+//
+//  1. Search: a long Hann STFT; per frame the harmonic salience (see
+//     salience.go) of every candidate on a 0.25 % log grid of shaft
+//     frequencies, weighted toward blade-pass multiples; then the best path
+//     through frames by dynamic programming with an acceleration bound and
+//     an unvoiced state for frames without a motor (ridgePath).
+//  2. Refinement: a shorter Hann STFT sized to the speed found. In each
+//     frame the local salience picks the best candidate near the search
+//     path, and each harmonic h's peak near h·f0 is refined with Jacobsen's
+//     complex three-bin estimator in its Hann form (dsp.InterpJacobsenHann,
+//     bias below 1e-8 bin; the alternatives measured in dsp — quadratic on
+//     log magnitude, 0.016 bin; power-scaled quadratic, 2.8e-4 bin — are
+//     worse and gain nothing in cost here, where complex bins are at hand).
+//     The harmonics' shaft estimates f_h/h are pooled by inverse variance,
+//     weight h²·SNR_h, after a robust rejection of lines that disagree with
+//     their weighted median (a passing whine or hum line).
+//  3. Checks: the comb's profile along the track tells whether another
+//     blade count fits better (a warning) or, with Blades = 0, gives it.
+//
+// Each track sample is, for a slowly changing speed, the w²-weighted average
+// of the instantaneous shaft frequency over its frame (w the refinement
+// window); Track.Kernel holds that kernel (TestTrackKernel checks it on a
+// rendered step).
+func TrackSignal(ctx context.Context, sig dsp.Signal, cfg TrackConfig, progress func(done, total int)) (*Track, *dsp.Spectrogram, error) {
+	fs := sig.SampleRate
+	if !(fs > 0) || math.IsInf(fs, 0) {
+		return nil, nil, fmt.Errorf("analysis: sample rate %g Hz is not valid", fs)
+	}
+	cfg, err := cfg.resolve(fs)
+	if err != nil {
+		return nil, nil, err
+	}
+	if len(sig.Samples) < 256 {
+		return nil, nil, fmt.Errorf("analysis: recording of %d samples is too short to track (at least 256)", len(sig.Samples))
+	}
+	tk := &tracker{cfg: cfg, fs: fs, x: sig.Samples, progress: progress}
+	blades := cfg.Blades
+	var warn []string
+	if blades == 0 {
+		// Find the comb's fundamental without a blade count, read the
+		// blade count from the comb's profile, then track with it.
+		tr, _, err := tk.run(ctx, 0, false)
+		if err != nil {
+			return nil, nil, err
+		}
+		b, msg := tk.estimateBlades()
+		if tr.validCount() == 0 {
+			b, msg = 2, "no motor found; blade count assumed 2"
+		}
+		blades = b
+		warn = append(warn, msg)
+		cfg.MaxShaftHz = min(cfg.MaxShaftHz, 0.45*fs/float64(blades))
+		tk.cfg = cfg
+	}
+	tr, spec, err := tk.run(ctx, blades, true)
+	if err != nil {
+		return nil, nil, err
+	}
+	tr.Warnings = append(warn, tr.Warnings...)
+	if cfg.Blades > 0 {
+		if msg := tk.checkBlades(cfg.Blades); msg != "" {
+			tr.Warnings = append(tr.Warnings, msg)
+		}
+	}
+	tr.Warnings = append(tr.Warnings, tk.checkOctave(tr)...)
+	if msg := clippingWarning(sig.Samples); msg != "" {
+		tr.Warnings = append(tr.Warnings, msg)
+	}
+	return tr, spec, nil
+}
+
+func (t *Track) validCount() int {
+	n := 0
+	for i := range t.ShaftHz {
+		if t.Valid(i) {
+			n++
+		}
+	}
+	return n
+}
+
+// tracker holds one tracking job.
+type tracker struct {
+	cfg      TrackConfig
+	fs       float64
+	x        []float32
+	progress func(done, total int)
+	done     int
+
+	grid []float64 // candidate shaft frequencies
+
+	// Search pass.
+	search dsp.STFTConfig
+	path   []int32
+
+	// Comb profile from the refinement pass: mean clamped excess at
+	// q/profileDiv shaft orders (index q), and how many frames saw it.
+	prof  []float64
+	profN []int
+}
+
+// run performs the search and refinement passes with the given blade count
+// (0 = all harmonics alike). display asks for the display spectrogram.
+func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *dsp.Spectrogram, error) {
+	cfg := tk.cfg
+	fs := tk.fs
+	tk.grid = newCandidateGrid(cfg.MinShaftHz, cfg.MaxShaftHz, candidateStep)
+	K := len(tk.grid)
+
+	// Search pass: a frame long enough to hold three periods of the lowest
+	// shaft speed (so that shaft-order lines are three bins apart), and at
+	// least searchFrameS.
+	n1 := pow2AtLeast(max(searchFrameS*fs, 3*fs/cfg.MinShaftHz))
+	for n1 > len(tk.x) && n1 > 256 {
+		n1 /= 2
+	}
+	hop1 := max(int(math.Round(searchHopS*fs)), (len(tk.x)-n1)/maxSearchFrames+1)
+	tk.search = dsp.STFTConfig{FrameLen: n1, Hop: hop1, FFTLen: n1}.Resolve(fs)
+	sc := tk.search
+	T := sc.NumFrames(len(tk.x))
+	bins := sc.Bins()
+	binHz := fs / float64(sc.FFTLen)
+	comb := newCombTable(tk.grid, binHz, bins, blades, min(salienceFcapHz, 0.45*fs))
+	sal := make([]float32, T*K)
+
+	var spec *dsp.Spectrogram
+	dec := 1
+	if display {
+		dec = (T + maxDisplayFrames - 1) / maxDisplayFrames
+		rows := (T + dec - 1) / dec
+		spec = &dsp.Spectrogram{Frames: rows, Bins: bins, Mag: make([]float32, rows*bins),
+			FrameLen: sc.FrameLen, Hop: sc.Hop * dec, FFTLen: sc.FFTLen, SampleRate: fs}
+	}
+	workers := sc.Workers
+	scratch := make([]searchScratch, workers)
+	for w := range scratch {
+		scratch[w].z = make([]float32, bins)
+	}
+	total := T + 2*T*sc.Hop/max(1, int(math.Round(refineHopS*fs)))
+	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
+		s := &scratch[w]
+		s.wh.whiten(s.z, re, im)
+		comb.salience(sal[i*K:(i+1)*K], s.z, 0, K)
+		if spec != nil && i%dec == 0 {
+			row := spec.Row(i / dec)
+			for k := range row {
+				row[k] = float32(math.Sqrt(float64(re[k]*re[k] + im[k]*im[k])))
+			}
+		}
+	}, tk.report(total))
+	if err != nil {
+		return nil, nil, fmt.Errorf("analysis: tracking: %w", err)
+	}
+	tk.done += T
+
+	// Typical salience of a frame with a motor: the median of the frames'
+	// maxima where positive.
+	var maxima []float32
+	for i := 0; i < T; i++ {
+		if m := slices.Max(sal[i*K : (i+1)*K]); m > 0 {
+			maxima = append(maxima, m)
+		}
+	}
+	var tr *Track
+	if len(maxima) == 0 {
+		tk.path = make([]int32, T)
+		for i := range tk.path {
+			tk.path[i] = -1
+		}
+	} else {
+		slices.Sort(maxima)
+		sref := maxima[len(maxima)/2]
+		rp := ridgePath{T: T, K: K, lambda: pathSlopeCost * sref * float32(comb.logStep),
+			switchCost: voicingCost * sref, maxJump: make([]int32, K)}
+		dt := float64(sc.Hop) / fs
+		for k, f := range tk.grid {
+			rp.maxJump[k] = int32(math.Ceil(math.Log1p(cfg.MaxAccelHzPerS*dt/f)/comb.logStep)) + 2
+		}
+		tk.path = rp.solve(sal)
+	}
+	sal = nil
+	tr, err = tk.refine(ctx, blades, total)
+	if err != nil {
+		return nil, nil, err
+	}
+	return tr, spec, nil
+}
+
+type searchScratch struct {
+	wh whitener
+	z  []float32
+}
+
+func (tk *tracker) report(total int) func(done, total int) {
+	if tk.progress == nil {
+		return nil
+	}
+	base := tk.done
+	return func(d, _ int) { tk.progress(min(base+d, total), total) }
+}
+
+// pow2AtLeast returns the smallest power of two ≥ x.
+func pow2AtLeast(x float64) int {
+	n := 1
+	for float64(n) < x {
+		n <<= 1
+	}
+	return n
+}
+
+// pow2Nearest returns the power of two nearest to x on a log scale.
+func pow2Nearest(x float64) int {
+	return 1 << max(0, int(math.Round(math.Log2(x))))
+}
+
+// searchTime returns the time of search frame i.
+func (tk *tracker) searchTime(i int) float64 {
+	return (float64(i*tk.search.Hop) + float64(tk.search.FrameLen)/2) / tk.fs
+}
+
+// refineScratch is one worker's state in the refinement pass.
+type refineScratch struct {
+	wh       whitener
+	z        []float32
+	sal      []float32
+	est, sd  []float64
+	hs, ord  []int
+	prof     []float64 // comb level at q/profileDiv shaft orders
+	profN    []int
+}
+
+// refine runs the refinement pass along the search path.
+func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, error) {
+	fs := tk.fs
+	K := len(tk.grid)
+	// The lowest speed on the path sets the frame.
+	var voiced []float64
+	for _, k := range tk.path {
+		if k >= 0 {
+			voiced = append(voiced, tk.grid[k])
+		}
+	}
+	fLow := tk.cfg.MinShaftHz
+	if len(voiced) > 0 {
+		slices.Sort(voiced)
+		fLow = voiced[len(voiced)/20]
+	}
+	rc := tk.cfg.STFT
+	if rc.FrameLen == 0 {
+		rc.FrameLen = min(pow2Nearest(refineCycles*fs/fLow), tk.search.FrameLen)
+	}
+	if rc.Hop == 0 {
+		rc.Hop = max(1, min(rc.FrameLen/4, int(math.Round(refineHopS*fs))))
+	}
+	rc = rc.Resolve(fs)
+	if rc.FrameLen > len(tk.x) {
+		return nil, fmt.Errorf("analysis: frame of %d samples is longer than the recording (%d)", rc.FrameLen, len(tk.x))
+	}
+	if rc.FFTLen%rc.FrameLen != 0 {
+		return nil, fmt.Errorf("analysis: FFT length %d is not a whole multiple of the frame length %d", rc.FFTLen, rc.FrameLen)
+	}
+	pad := rc.FFTLen / rc.FrameLen
+	nf := rc.NumFrames(len(tk.x))
+	bins := rc.Bins()
+	binHz := fs / float64(rc.FFTLen)
+	comb := newCombTable(tk.grid, binHz, bins, blades, min(salienceFcapHz, 0.45*fs))
+
+	tr := &Track{Blades: max(blades, 1), TimeS: make([]float64, nf), ShaftHz: make([]float64, nf),
+		SigmaHz: make([]float64, nf), Confidence: make([]float64, nf)}
+	tr.Kernel, tr.KernelDtS = hannPowerKernel(rc.FrameLen, fs)
+
+	maxH := refineHarmonics * max(blades, 1)
+	workers := rc.Workers
+	scratch := make([]refineScratch, workers)
+	for w := range scratch {
+		s := &scratch[w]
+		s.z = make([]float32, bins)
+		s.sal = make([]float32, K)
+		s.est = make([]float64, maxH)
+		s.sd = make([]float64, maxH)
+		s.ord = make([]int, maxH)
+		s.hs = make([]int, maxH)
+		s.prof = make([]float64, profileLen)
+		s.profN = make([]int, profileLen)
+	}
+	sHop := float64(tk.search.Hop)
+	span := int(math.Ceil(float64(tk.search.FrameLen+rc.FrameLen) / 2 / sHop))
+	nyq := 0.45 * fs
+
+	err := rc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
+		s := &scratch[w]
+		t := (float64(i*rc.Hop) + float64(rc.FrameLen)/2) / fs
+		tr.TimeS[i] = t
+		tr.ShaftHz[i], tr.SigmaHz[i] = math.NaN(), math.NaN()
+		// Nearest search frame and the speed range around it.
+		c := int(math.Round((t*fs - float64(tk.search.FrameLen)/2) / sHop))
+		c = max(0, min(len(tk.path)-1, c))
+		if tk.path[c] < 0 {
+			return
+		}
+		klo, khi := K, -1
+		for j := max(0, c-span); j <= min(len(tk.path)-1, c+span); j++ {
+			if k := int(tk.path[j]); k >= 0 {
+				klo, khi = min(klo, k), max(khi, k)
+			}
+		}
+		margin := int(math.Ceil(math.Log(1.03) / comb.logStep))
+		klo, khi = max(0, klo-margin), min(K, khi+margin+1)
+		s.wh.whiten(s.z, re, im)
+		comb.salience(s.sal[:khi-klo], s.z, klo, khi)
+		kb := klo
+		for k := klo; k < khi; k++ {
+			if s.sal[k-klo] > s.sal[kb-klo] {
+				kb = k
+			}
+		}
+		// Refine harmonic by harmonic, predicting each from the estimate so
+		// far.
+		f0 := tk.grid[kb]
+		n := 0
+		var sw, swf float64
+		for h := 1; h <= maxH; h++ {
+			fp := float64(h) * f0
+			if fp > nyq {
+				break
+			}
+			if sw > 0 {
+				fp = float64(h) * swf / sw
+			}
+			j := int(math.Round(fp / binHz))
+			if j-pad < 1 || j+pad >= bins-1 {
+				break
+			}
+			// Highest bin within a natural bin of the prediction.
+			jb := j
+			for d := -pad; d <= pad; d++ {
+				if s.z[j+d] > s.z[jb] {
+					jb = j + d
+				}
+			}
+			zj := float64(s.z[jb])
+			if zj < refineMinZ || s.z[jb-1] > s.z[jb] || s.z[jb+1] > s.z[jb] {
+				continue
+			}
+			var d float64
+			if pad == 1 {
+				d = dsp.InterpJacobsenHann(re, im, jb)
+			} else {
+				d = dsp.InterpJacobsenHannPadded(re, im, jb, pad)
+			}
+			fh := (float64(jb) + d) * binHz
+			snr := math.Max(math.Exp(zj)-1, 0.5)
+			// Jacobsen's Hann estimator is within about twice the Cramér–Rao
+			// bound (0.1/SNR_bin bins², Rife & Boorstyn 1974), hence
+			// 0.7/√SNR natural bins.
+			sdh := 0.7 * binHz * float64(pad) / math.Sqrt(snr) / float64(h)
+			s.est[n], s.sd[n], s.hs[n] = fh/float64(h), sdh, h
+			n++
+			wt := 1 / (sdh * sdh)
+			sw += wt
+			swf += wt * fh / float64(h)
+		}
+		if n == 0 {
+			return
+		}
+		f, sd, ok := poolHarmonics(s.est[:n], s.sd[:n], s.hs[:n], s.ord[:n], binHz*float64(pad))
+		if !ok || f < tk.cfg.MinShaftHz*0.97 || f > tk.cfg.MaxShaftHz*1.03 {
+			return
+		}
+		tr.ShaftHz[i], tr.SigmaHz[i] = f, sd
+		tr.Confidence[i] = 1 - math.Exp(-math.Max(0, float64(s.sal[kb-klo]))/float64(comb.thr[kb]))
+		// Comb profile.
+		for q := 1; q < profileLen; q++ {
+			x := float64(q) / profileDiv * f
+			if x > nyq {
+				break
+			}
+			s.prof[q] += combLevel(s.z, x/binHz)
+			s.profN[q]++
+		}
+	}, tk.report(total))
+	if err != nil {
+		return nil, fmt.Errorf("analysis: tracking: %w", err)
+	}
+	tk.done += nf
+	tk.prof = make([]float64, profileLen)
+	tk.profN = make([]int, profileLen)
+	for _, s := range scratch {
+		for q := range tk.prof {
+			tk.prof[q] += s.prof[q]
+			tk.profN[q] += s.profN[q]
+		}
+	}
+	for q := range tk.prof {
+		if tk.profN[q] > 0 {
+			tk.prof[q] /= float64(tk.profN[q])
+		}
+	}
+	if nv := tr.validCount(); nv == 0 {
+		tr.Warnings = append(tr.Warnings, "no motor found: no harmonic comb stands out of the noise")
+	} else if nv < nf {
+		tr.Warnings = append(tr.Warnings, fmt.Sprintf("no motor in %d of %d frames (%.0f %%): left empty", nf-nv, nf, 100*float64(nf-nv)/float64(nf)))
+	}
+	return tr, nil
+}
+
+// combLevel returns the clamped excess at fractional bin x (max of the two
+// nearest bins), 0 outside the spectrum.
+func combLevel(z []float32, x float64) float64 {
+	b := int(x)
+	if b < 0 || b+1 >= len(z) {
+		return 0
+	}
+	return float64(min(max(max(z[b], z[b+1]), 0), zCap))
+}
+
+// poolHarmonics combines per-harmonic shaft estimates est (f_h/h, with
+// standard errors sd, from harmonic orders hs) by inverse variance, after
+// rejecting those further from the weighted median than 4 standard errors
+// plus a quarter bin in the line's own frequency (binHz/h in shaft units):
+// a whine or hum line beside a harmonic pulls that harmonic only. It returns
+// the pooled estimate and its standard error, inflated by the scatter when
+// the harmonics disagree more than their errors say.
+func poolHarmonics(est, sd []float64, hs, ord []int, binHz float64) (f, sigma float64, ok bool) {
+	n := len(est)
+	for i := range ord {
+		ord[i] = i
+	}
+	slices.SortFunc(ord, func(a, b int) int {
+		switch {
+		case est[a] < est[b]:
+			return -1
+		case est[a] > est[b]:
+			return 1
+		}
+		return 0
+	})
+	var wt float64
+	for _, i := range ord {
+		wt += 1 / (sd[i] * sd[i])
+	}
+	var acc float64
+	med := est[ord[0]]
+	for _, i := range ord {
+		acc += 1 / (sd[i] * sd[i])
+		if acc >= wt/2 {
+			med = est[i]
+			break
+		}
+	}
+	keep := func(i int) bool {
+		return math.Abs(est[i]-med) <= 4*sd[i]+0.25*binHz/float64(hs[i])
+	}
+	var sw, swf float64
+	m := 0
+	for i := 0; i < n; i++ {
+		if !keep(i) {
+			continue
+		}
+		w := 1 / (sd[i] * sd[i])
+		sw += w
+		swf += w * est[i]
+		m++
+	}
+	if m == 0 {
+		return 0, 0, false
+	}
+	f = swf / sw
+	sigma = 1 / math.Sqrt(sw)
+	if m > 1 {
+		var chi2 float64
+		for i := 0; i < n; i++ {
+			if keep(i) {
+				r := (est[i] - f) / sd[i]
+				chi2 += r * r
+			}
+		}
+		if c := chi2 / float64(m-1); c > 1 {
+			sigma *= math.Sqrt(c)
+		}
+	}
+	return f, sigma, true
+}
+
+// hannPowerKernel returns the normalised w² of a periodic Hann frame of n
+// samples, sampled at up to 129 points over the frame, and their spacing.
+// A peak-frequency estimate from that frame is, for a slowly varying
+// frequency, the w²-weighted mean of the instantaneous frequency
+// (reference notes, methods §1.5; checked in TestTrackKernel).
+func hannPowerKernel(n int, fs float64) ([]float64, float64) {
+	m := min(n, 128)
+	dt := float64(n) / fs / float64(m)
+	k := make([]float64, m+1)
+	var sum float64
+	for j := range k {
+		// Continuous Hann over [0, n), w(u) = sin²(πu/n), sampled at the
+		// centres of m equal cells (the end points are zero).
+		u := float64(j) / float64(m)
+		w := math.Pow(math.Sin(math.Pi*u), 4)
+		k[j] = w
+		sum += w
+	}
+	for j := range k {
+		k[j] /= sum
+	}
+	return k, dt
+}
+

@@ -1,0 +1,200 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+)
+
+// Checks of the tracked comb against other readings of the same lines.
+//
+// The refinement pass records the comb's mean level (clamped excess over
+// the noise floor, nepers) at every 1/120 of a shaft order up to 30 orders.
+// A reading of the lines is a hypothesis (r, B'): the shaft turns at r times
+// the tracked frequency and the propeller has B' blades. Its score is
+//
+//	score = L̄(blade-pass positions) − L̄(midpoints between orders)
+//	        − max(0, L̄(other shaft orders) − 0.6·L̄(blade-pass positions))
+//
+// The first term asks that the blade-pass lines be there; the second that
+// nothing lie between the shaft orders (a shaft frequency too high leaves
+// lines between its orders); the third that shaft-order lines be weaker than
+// the blade-pass lines, as they are on a rotor (a shaft frequency too high
+// by the blade count turns blade-pass lines into "shaft orders" as strong
+// as the blade-pass lines). A lattice of 1/120 orders cover r ∈ {1/5, 1/4, 1/3,
+// 1/2, 2/3, 1, 3/2, 2, 3, 4, 5}. Readings that the lines cannot tell apart
+// (f0 with 3 blades and 1.5·f0 with 2 when no shaft-order line shows) score
+// alike; the current reading then stands.
+const (
+	profileDiv = 120
+	profileLen = 30*profileDiv + 1
+	// checkMargin is how much better (nepers) another reading must score to
+	// be reported; fixMargin to replace an octave error outright.
+	checkMargin = 0.5
+	fixMargin   = 1.0
+)
+
+var checkRatios = []struct{ num, den int }{
+	{1, 5}, {1, 4}, {1, 3}, {1, 2}, {2, 3}, {1, 1}, {3, 2}, {2, 1}, {3, 1}, {4, 1}, {5, 1},
+}
+
+// readingScore returns the score of hypothesis (num/den, blades) and false
+// when the profile holds too few of its positions.
+func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
+	// Shaft order h of the hypothesis lies at q = 120·h·num/den (even).
+	step := profileDiv * num / den // q per hypothesis order
+	var bl, nb, mid float64
+	var nbl, nnb, nmid int
+	for h := 1; ; h++ {
+		q := h * step
+		if q >= profileLen || tk.profN[q] == 0 {
+			break
+		}
+		if h%blades == 0 {
+			bl += tk.prof[q]
+			nbl++
+		} else {
+			nb += tk.prof[q]
+			nnb++
+		}
+		if qm := q - step/2; qm > 0 {
+			mid += tk.prof[qm]
+			nmid++
+		}
+	}
+	if nbl < 2 {
+		return 0, false
+	}
+	bl /= float64(nbl)
+	if nnb > 0 {
+		nb /= float64(nnb)
+	}
+	if nmid > 0 {
+		mid /= float64(nmid)
+	}
+	return bl - mid - math.Max(0, nb-0.6*bl), true
+}
+
+type reading struct {
+	num, den, blades int
+	score            float64
+}
+
+// bestReading returns the best-scoring hypothesis over the ratios and
+// blade counts 2–6 (or only the given blade count when fixed > 0).
+func (tk *tracker) bestReading(fixed int) (reading, bool) {
+	best := reading{score: math.Inf(-1)}
+	found := false
+	for _, r := range checkRatios {
+		for b := 2; b <= 6; b++ {
+			if fixed > 0 && b != fixed {
+				continue
+			}
+			if s, ok := tk.readingScore(r.num, r.den, b); ok && s > best.score {
+				best, found = reading{r.num, r.den, b, s}, true
+			}
+		}
+	}
+	return best, found
+}
+
+// estimateBlades reads the blade count from the comb tracked without one.
+func (tk *tracker) estimateBlades() (int, string) {
+	if tk.prof == nil {
+		return 2, "blade count assumed 2: no comb to read it from"
+	}
+	best, ok := tk.bestReading(0)
+	if !ok || best.score < checkMargin {
+		return 2, "blade count could not be read from the harmonic comb; assumed 2 (give the blade count)"
+	}
+	return best.blades, fmt.Sprintf("blade count estimated from the harmonic comb: %d (give the blade count to be sure)", best.blades)
+}
+
+// checkBlades compares the given blade count's reading with the best other
+// one and returns a warning when another fits clearly better.
+func (tk *tracker) checkBlades(given int) string {
+	if tk.prof == nil {
+		return ""
+	}
+	cur, ok := tk.readingScore(1, 1, given)
+	if !ok {
+		return ""
+	}
+	best, ok := tk.bestReading(0)
+	if !ok || best.blades == given || best.score < cur+checkMargin {
+		return ""
+	}
+	if best.num == best.den {
+		return fmt.Sprintf("the harmonic comb suggests %d blades rather than the %d given (blade-pass lines stand out by %.1f dB against %.1f dB)",
+			best.blades, given, nepersToDB(best.score), nepersToDB(cur))
+	}
+	return fmt.Sprintf("the harmonic comb fits %d blades at %s times the tracked speed better than the %d given; check the blade count",
+		best.blades, ratioString(best.num, best.den), given)
+}
+
+// checkOctave tests the tracked speed against other ratios with the same
+// blade count and, when one is clearly better, rescales the track. It
+// returns the warnings to report.
+func (tk *tracker) checkOctave(tr *Track) []string {
+	if tk.prof == nil {
+		return nil
+	}
+	cur, ok := tk.readingScore(1, 1, tr.Blades)
+	if !ok {
+		return nil
+	}
+	best, ok := tk.bestReading(tr.Blades)
+	if !ok || best.num == best.den || best.score < cur+fixMargin {
+		return nil
+	}
+	r := float64(best.num) / float64(best.den)
+	if lo, hi := tk.cfg.MinShaftHz, tk.cfg.MaxShaftHz; !tr.allWithin(r, lo, hi) {
+		return []string{fmt.Sprintf("the harmonic comb fits a shaft speed %s times the tracked one better, but that lies outside the search range; check the blade count", ratioString(best.num, best.den))}
+	}
+	for i := range tr.ShaftHz {
+		tr.ShaftHz[i] *= r
+		tr.SigmaHz[i] *= r
+	}
+	return []string{fmt.Sprintf("shaft speed corrected by %s: the harmonic comb fits it clearly better (%.1f dB against %.1f dB)",
+		ratioString(best.num, best.den), nepersToDB(best.score), nepersToDB(cur))}
+}
+
+func (t *Track) allWithin(r, lo, hi float64) bool {
+	for i, f := range t.ShaftHz {
+		if t.Valid(i) && (f*r < lo*0.97 || f*r > hi*1.03) {
+			return false
+		}
+	}
+	return true
+}
+
+func ratioString(num, den int) string {
+	if den == 1 {
+		return fmt.Sprintf("%d", num)
+	}
+	return fmt.Sprintf("%d/%d", num, den)
+}
+
+// nepersToDB converts a power ratio in nepers (natural log) to dB.
+func nepersToDB(x float64) float64 { return 10 * x / math.Ln10 }
+
+// clippingWarning reports samples stuck at the recording's extremes.
+func clippingWarning(x []float32) string {
+	var peak float32
+	for _, v := range x {
+		peak = max(peak, v, -v)
+	}
+	if peak < 0.5 {
+		return ""
+	}
+	n := 0
+	lim := 0.999 * peak
+	for _, v := range x {
+		if v >= lim || v <= -lim {
+			n++
+		}
+	}
+	if frac := float64(n) / float64(len(x)); frac > 1e-3 {
+		return fmt.Sprintf("the recording looks clipped: %.2f %% of samples sit at its peak level", 100*frac)
+	}
+	return ""
+}

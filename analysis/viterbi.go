@@ -1,0 +1,145 @@
+package analysis
+
+import "math"
+
+// ridgePath finds the globally best ridge through a salience matrix by
+// dynamic programming (the Viterbi algorithm over candidate states, as in
+// ridge and pitch trackers: R. Carmona, W. L. Hwang and B. Torrésani,
+// "Multiridge detection and time-frequency reconstruction", IEEE Trans.
+// Signal Processing 47(2):480–492, 1999; pYIN, M. Mauch and S. Dixon,
+// ICASSP 2014). It maximises
+//
+//	Σ_t score_t(k_t) − λ·Σ_t |k_t − k_{t−1}| − switchCost·(voicing changes)
+//
+// where score_t(k) = sal[t·K + k] for a voiced state k (the salience already
+// has its voicing threshold subtracted) and 0 for the unvoiced state, and a
+// move between frames is limited to |k_t − k_{t−1}| ≤ maxJump[k_t] grid
+// steps: the physical bound on acceleration. The absolute-value cost lets
+// the path jump at a step (one cost, however fast) but makes a detour to a
+// passing line and back cost twice. Each frame costs O(K): the windowed
+// maximum of J(j) − λ|k − j| is split into its two one-sided halves, each a
+// sliding-window maximum kept in a monotone deque.
+//
+// The result holds the chosen candidate per frame, −1 for unvoiced.
+type ridgePath struct {
+	T, K       int
+	lambda     float32
+	switchCost float32
+	maxJump    []int32 // per candidate, nondecreasing k − maxJump[k] and k + maxJump[k]
+}
+
+func (r *ridgePath) solve(sal []float32) []int32 {
+	T, K := r.T, r.K
+	path := make([]int32, T)
+	if T == 0 || K == 0 {
+		for i := range path {
+			path[i] = -1
+		}
+		return path
+	}
+	bp := make([]int16, T*K) // previous state, −1 = unvoiced
+	bpu := make([]int32, T)  // unvoiced's previous state, −1 = unvoiced
+	prev := make([]float32, K)
+	cur := make([]float32, K)
+	best := make([]float32, K) // best predecessor value for each k
+	arg := make([]int32, K)
+	dq := make([]int32, K)
+	lam := r.lambda
+	negInf := float32(math.Inf(-1))
+
+	copy(prev, sal[:K])
+	prevU := float32(0)
+	for t := 1; t < T; t++ {
+		for k := range best {
+			best[k], arg[k] = negInf, -1
+		}
+		// Left half: j ≤ k, value prev[j] + λj, window j ≥ k − maxJump[k].
+		h, n := 0, 0
+		for k := 0; k < K; k++ {
+			v := prev[k] + lam*float32(k)
+			for n > h && prev[dq[n-1]]+lam*float32(dq[n-1]) <= v {
+				n--
+			}
+			dq[n] = int32(k)
+			n++
+			lo := int32(k) - r.maxJump[k]
+			for dq[h] < lo {
+				h++
+			}
+			j := dq[h]
+			if b := prev[j] - lam*float32(int32(k)-j); b > best[k] {
+				best[k], arg[k] = b, j
+			}
+		}
+		// Right half: j ≥ k, value prev[j] − λj, window j ≤ k + maxJump[k].
+		h, n = 0, 0
+		for k := K - 1; k >= 0; k-- {
+			v := prev[k] - lam*float32(k)
+			for n > h && prev[dq[n-1]]-lam*float32(dq[n-1]) <= v {
+				n--
+			}
+			dq[n] = int32(k)
+			n++
+			hi := int32(k) + r.maxJump[k]
+			for dq[h] > hi {
+				h++
+			}
+			j := dq[h]
+			if b := prev[j] - lam*float32(j-int32(k)); b > best[k] {
+				best[k], arg[k] = b, j
+			}
+		}
+		// Unvoiced predecessor, and the best voiced state for the next
+		// unvoiced frame.
+		bestV, argV := negInf, int32(-1)
+		for k := 0; k < K; k++ {
+			if prev[k] > bestV {
+				bestV, argV = prev[k], int32(k)
+			}
+		}
+		fromU := prevU - r.switchCost
+		row := sal[t*K : (t+1)*K]
+		bprow := bp[t*K : (t+1)*K]
+		for k := 0; k < K; k++ {
+			b, a := best[k], arg[k]
+			if fromU > b {
+				b, a = fromU, -1
+			}
+			cur[k] = row[k] + b
+			bprow[k] = int16(a)
+		}
+		if u := bestV - r.switchCost; u > prevU {
+			prevU, bpu[t] = u, argV
+		} else {
+			bpu[t] = -1
+		}
+		prev, cur = cur, prev
+		// Keep the numbers bounded on long files.
+		if t%1024 == 0 {
+			off := prevU
+			for k := range prev {
+				prev[k] -= off
+			}
+			prevU = 0
+		}
+	}
+	// Backtrack from the best final state.
+	state, bestV := int32(-1), prevU
+	for k := 0; k < K; k++ {
+		if prev[k] > bestV {
+			bestV, state = prev[k], int32(k)
+		}
+	}
+	for t := T - 1; t >= 0; t-- {
+		path[t] = state
+		if t == 0 {
+			break
+		}
+		if state < 0 {
+			state = bpu[t]
+		} else {
+			state = int32(bp[t*K+int(state)])
+		}
+	}
+	return path
+}
