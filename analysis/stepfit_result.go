@@ -1,0 +1,276 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+)
+
+// StepFit is a fitted step: enough to redraw its model and 95 % band.
+// Speeds are in rpm, times in seconds from the start of the recording.
+type StepFit struct {
+	// FromS and ToS bound the stretch of track the fit used.
+	FromS, ToS float64
+	// CommandS is the command time (NaN when not known), OnsetS the
+	// response start tc + θ.
+	CommandS, OnsetS float64
+	// RPMBefore and DeltaRPM are r0 and Δ; TauS the time constant.
+	RPMBefore, DeltaRPM, TauS float64
+
+	k   fopdtKernel
+	cov [numPar][numPar]float64 // over (r0 Hz, Δ Hz, t0 s, ln τ)
+	tq  float64                 // t quantile of the intervals
+}
+
+// Model returns the fitted true speed at tS: r0 before the onset,
+// r0 + Δ·(1 − e^{−(t − onset)/τ}) after it.
+func (f *StepFit) Model(tS float64) float64 {
+	return f.RPMBefore + f.DeltaRPM*fopdtTrue(tS, f.OnsetS, f.TauS)
+}
+
+// SeenModel returns the fitted curve as the track sees it: the model
+// averaged through the analysis window's kernel. This is what was compared
+// with the track samples.
+func (f *StepFit) SeenModel(tS float64) float64 {
+	ft := f.k.prepare(f.TauS)
+	G, _, _ := f.k.seen(tS-f.OnsetS, &ft)
+	return f.RPMBefore + f.DeltaRPM*G
+}
+
+// Band returns the pointwise 95 % confidence band of the true curve at ts
+// (delta method on the parameter covariance, same t quantile as the
+// reported intervals).
+func (f *StepFit) Band(ts []float64) (lo, hi []float64) {
+	lo = make([]float64, len(ts))
+	hi = make([]float64, len(ts))
+	r0 := ShaftHz(f.RPMBefore)
+	dl := ShaftHz(f.DeltaRPM)
+	for i, t := range ts {
+		u := (t - f.OnsetS) / f.TauS
+		var g [numPar]float64
+		g[parR0] = 1
+		if u > 0 {
+			e := math.Exp(-u)
+			g[parDelta] = 1 - e
+			g[parT0] = -dl * e / f.TauS
+			g[parLnTau] = -dl * e * u
+		}
+		v := 0.0
+		for a := 0; a < numPar; a++ {
+			for b := 0; b < numPar; b++ {
+				v += g[a] * f.cov[a][b] * g[b]
+			}
+		}
+		m := r0 + dl*fopdtTrue(t, f.OnsetS, f.TauS)
+		h := f.tq * math.Sqrt(math.Max(v, 0))
+		lo[i], hi[i] = RPM(m-h), RPM(m+h)
+	}
+	return lo, hi
+}
+
+// fitPlan fits one planned step and assembles its report.
+func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig, stepNo uint64) (*StepResult, error) {
+	opts := stepFitOpts{commandS: p.commandS, t0Lo: p.onsetLo, t0Hi: p.onsetHi, fixR0: p.standstill}
+	d := stepDataFrom(tr, k, hop, p.fromS, p.toS)
+	if d.n() < 8 {
+		return nil, errNoFit
+	}
+	fit, err := fitFOPDT(d, opts)
+	if err != nil {
+		return nil, err
+	}
+	// Second pass: keep the settled stretch to a dozen time constants (a
+	// long plateau adds drift, not information about τ), and drop gross
+	// outliers (tracker glitches) beyond 6 robust standard deviations.
+	tau := math.Exp(fit.p[parLnTau])
+	to := math.Min(p.toS, fit.p[parT0]+math.Max(postWindowTaus*tau, minPostWindowS))
+	d2 := stepDataFrom(tr, k, hop, p.fromS, to)
+	nOut := dropOutliers(d2, fit)
+	if nOut > 0 || d2.n() < d.n() {
+		if d2.n() >= 8 {
+			if f2, err := fitFOPDT(d2, opts); err == nil {
+				fit, d = f2, d2
+				p.toS = to
+			}
+		}
+	}
+
+	free := fit.free
+	maxLag := int(math.Ceil(1.5*k.spanS()/hop)) + 2
+	cc, err := corrCovariance(fit.J, fit.resid, d.idx, maxLag)
+	if err != nil {
+		return nil, err
+	}
+	tq := tQuantile975(cc.df)
+	var cov [numPar][numPar]float64
+	for a, qa := range free {
+		for b, qb := range free {
+			cov[qa][qb] = cc.cov.At(a, b)
+		}
+	}
+	half := func(q int) float64 { return tq * math.Sqrt(cov[q][q]) }
+	var notes []string
+	notes = append(notes, p.notes...)
+
+	// Bootstrap cross-check: widen the analytic interval where the
+	// bootstrap's is wider (rarely by much when the analytic one holds).
+	lnTau := fit.p[parLnTau]
+	tauLo, tauHi := math.Exp(lnTau-half(parLnTau)), math.Exp(lnTau+half(parLnTau))
+	t0Lo, t0Hi := fit.p[parT0]-half(parT0), fit.p[parT0]+half(parT0)
+	if cfg.Bootstrap > 0 {
+		lower, upper := fitBounds(d, opts, free)
+		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
+		bs := blockBootstrap(d, fit, lower, upper, maxLag, cfg.Bootstrap, scale, cfg.Seed^(stepNo*0x9e3779b97f4a7c15))
+		if bs != nil {
+			for c, q := range free {
+				switch q {
+				case parLnTau:
+					blo, bhi := math.Exp(bs.lo[c]), math.Exp(bs.hi[c])
+					if blo < tauLo/1.5 || bhi > tauHi*1.5 {
+						notes = append(notes, fmt.Sprintf("the bootstrap interval of τ (%.4g–%.4g s) is much wider than the analytic one; both are merged", blo, bhi))
+					}
+					tauLo, tauHi = math.Min(tauLo, blo), math.Max(tauHi, bhi)
+				case parT0:
+					t0Lo, t0Hi = math.Min(t0Lo, bs.lo[c]), math.Max(t0Hi, bs.hi[c])
+				}
+			}
+		}
+	}
+
+	r0, dl, t0 := fit.p[parR0], fit.p[parDelta], fit.p[parT0]
+	tau = math.Exp(lnTau)
+	res := &StepResult{Direction: Up, ResponseStartS: t0}
+	if dl < 0 {
+		res.Direction = Down
+	}
+	rpmEst := func(v float64, g [numPar]float64) Estimate {
+		s := 0.0
+		for a := 0; a < numPar; a++ {
+			for b := 0; b < numPar; b++ {
+				s += g[a] * cov[a][b] * g[b]
+			}
+		}
+		h := tq * math.Sqrt(math.Max(s, 0))
+		return Estimate{Value: RPM(v), CI95: [2]float64{RPM(v - h), RPM(v + h)}}
+	}
+	res.RPMBefore = rpmEst(r0, [numPar]float64{parR0: 1})
+	res.RPMAfter = rpmEst(r0+dl, [numPar]float64{parR0: 1, parDelta: 1})
+	res.DeltaRPM = rpmEst(dl, [numPar]float64{parDelta: 1})
+	res.TauS = Estimate{Value: tau, CI95: [2]float64{tauLo, tauHi}}
+	res.Rise1090S = Estimate{Value: tau * math.Log(9), CI95: [2]float64{tauLo * math.Log(9), tauHi * math.Log(9)}}
+	res.BandwidthHz = Estimate{Value: 1 / (2 * math.Pi * tau), CI95: [2]float64{1 / (2 * math.Pi * tauHi), 1 / (2 * math.Pi * tauLo)}}
+	lin := func(v float64, g [numPar]float64) *Estimate {
+		s := 0.0
+		for a := 0; a < numPar; a++ {
+			for b := 0; b < numPar; b++ {
+				s += g[a] * cov[a][b] * g[b]
+			}
+		}
+		h := tq * math.Sqrt(math.Max(s, 0))
+		return &Estimate{Value: v, CI95: [2]float64{v - h, v + h}}
+	}
+	if p.hasCommand() {
+		c := p.commandS
+		res.CommandS = &c
+		th := t0 - c
+		res.DeadTimeS = &Estimate{Value: th, CI95: [2]float64{math.Max(t0Lo-c, 0), math.Max(t0Hi-c, 0)}}
+		res.T63S = lin(th+tau, [numPar]float64{parT0: 1, parLnTau: tau})
+		res.T95S = lin(th+3*tau, [numPar]float64{parT0: 1, parLnTau: 3 * tau})
+		for _, e := range []*Estimate{res.T63S, res.T95S} {
+			e.CI95[0] = math.Max(e.CI95[0], 0)
+		}
+	} else {
+		notes = append(notes, "dead time needs the command time (give it, or record the command on a trigger channel); the response start is reported instead")
+	}
+
+	// Goodness of fit in rpm.
+	m := make([]float64, d.n())
+	d.model(m, nil, &fit.p, free)
+	ss := 0.0
+	for i := range m {
+		e := d.y[i] - m[i]/d.sw[i]
+		ss += e * e
+	}
+	res.ResidualRMSRPM = RPM(math.Sqrt(ss / float64(d.n())))
+	res.R2 = 1 - fit.rss/math.Max(fit.tss, 1e-300)
+
+	if res.R2 < poorR2 || res.ResidualRMSRPM > poorRelativeRMS*math.Abs(RPM(dl)) {
+		notes = append(notes, fmt.Sprintf("poor fit: R² = %.3f, residual RMS %.0f rpm for a change of %.0f rpm", res.R2, res.ResidualRMSRPM, math.Abs(RPM(dl))))
+	}
+	if after := p.toS - t0; after < settledTaus*tau {
+		notes = append(notes, fmt.Sprintf("only %.0f ms (%.1f τ) of track follow the response start before the next step or the end; at least %d τ are needed to see it settle", after*1e3, after/tau, settledTaus))
+	}
+	if lnTau <= math.Log(tauMinS)+1e-6 || lnTau >= math.Log(tauMaxS)-1e-6 {
+		notes = append(notes, "τ ended at the limit of its search range; the step may not be first-order")
+	}
+	if tauLo > 0 && tauHi/tauLo > 3 {
+		notes = append(notes, fmt.Sprintf("τ is poorly determined (95 %% interval %.4g–%.4g s)", tauLo, tauHi))
+	}
+	if st := fit.smith[0]; !math.IsNaN(st) && tau > 3*k.sdS() && (st > 1.6*tau || st < tau/1.6) {
+		notes = append(notes, fmt.Sprintf("the two-point estimate (Smith: 28.3 %%/63.2 %%) gives τ = %.4g s against the fitted %.4g s; check the step's shape", st, tau))
+	}
+	if nOut > 0 {
+		notes = append(notes, fmt.Sprintf("%d outlying track sample(s) left out of the fit", nOut))
+	}
+	if notes == nil {
+		notes = []string{}
+	}
+	res.Warnings = notes
+
+	sf := &StepFit{FromS: p.fromS, ToS: p.toS, CommandS: p.commandS, OnsetS: t0,
+		RPMBefore: RPM(r0), DeltaRPM: RPM(dl), TauS: tau, k: *k, cov: cov, tq: tq}
+	res.Fit = sf
+	return res, nil
+}
+
+// fitBounds mirrors the bounds fitFOPDT gives Levenberg–Marquardt.
+func fitBounds(d *stepData, o stepFitOpts, free []int) (lower, upper []float64) {
+	for _, q := range free {
+		lo, hi := math.Inf(-1), math.Inf(1)
+		switch q {
+		case parT0:
+			lo, hi = o.t0Lo-d.hop, o.t0Hi+d.hop
+			if !math.IsNaN(o.commandS) {
+				lo = o.commandS
+			}
+		case parLnTau:
+			lo, hi = math.Log(tauMinS), math.Log(tauMaxS)
+		}
+		lower = append(lower, lo)
+		upper = append(upper, hi)
+	}
+	return lower, upper
+}
+
+// dropOutliers removes from d the samples whose residual under fit (when
+// the sample is also in fit's data, matched by time) exceeds 6 robust
+// standard deviations, at most 5 % of them. It returns how many went.
+func dropOutliers(d *stepData, fit *stepFitOut) int {
+	m := make([]float64, d.n())
+	d.model(m, nil, &fit.p, fit.free)
+	r := make([]float64, d.n())
+	abs := make([]float64, d.n())
+	for i := range r {
+		r[i] = d.sw[i]*d.y[i] - m[i]
+	}
+	med := median(r)
+	for i := range r {
+		abs[i] = math.Abs(r[i] - med)
+	}
+	mad := 1.4826 * median(abs)
+	if !(mad > 0) {
+		return 0
+	}
+	limit := d.n() / 20
+	keep := 0
+	dropped := 0
+	for i := range r {
+		if abs[i] > 6*mad && dropped < limit {
+			dropped++
+			continue
+		}
+		d.t[keep], d.y[keep], d.sw[keep], d.idx[keep] = d.t[i], d.y[i], d.sw[i], d.idx[i]
+		keep++
+	}
+	d.t, d.y, d.sw, d.idx = d.t[:keep], d.y[:keep], d.sw[:keep], d.idx[:keep]
+	return dropped
+}

@@ -1,0 +1,233 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// StepConfig tunes step detection and fitting. Its zero value means
+// defaults.
+type StepConfig struct {
+	// CommandTimesS are throttle command times in seconds (given by the
+	// user or found on a trigger channel). When present, exactly these
+	// steps are fitted and dead time is measured from them; otherwise
+	// steps are detected on the track and no dead time is reported.
+	CommandTimesS []float64
+	// Bootstrap is the number of moving-block bootstrap replicates used to
+	// cross-check each step's intervals (0: default 200; negative: none).
+	Bootstrap int
+	// Seed seeds the bootstrap (0 is a valid seed).
+	Seed uint64
+	// MinChangeFraction is the smallest speed change, as a fraction of the
+	// speed before it, that detection reports as a step (default 0.03).
+	MinChangeFraction float64
+	// MaxRiseS is the longest 10–90 % transition that detection still
+	// calls a step; slower changes are ramps (default 0.6 s).
+	MaxRiseS float64
+}
+
+func (c StepConfig) withDefaults() StepConfig {
+	if c.Bootstrap == 0 {
+		c.Bootstrap = 200
+	}
+	if c.MinChangeFraction <= 0 {
+		c.MinChangeFraction = 0.03
+	}
+	if c.MaxRiseS <= 0 {
+		c.MaxRiseS = 0.6
+	}
+	return c
+}
+
+// Fit windows (common practice): at least this much track before the onset
+// and at most this much after it.
+const (
+	preWindowS      = 0.12
+	maxPostWindowS  = 1.5
+	postWindowTaus  = 12
+	minPostWindowS  = 0.3
+	maxDeadTimeS    = 0.25
+	settledTaus     = 4
+	poorR2          = 0.9
+	poorRelativeRMS = 0.08
+)
+
+// AnalyseSteps finds the throttle steps on a track (or takes them from
+// cfg.CommandTimesS) and fits each with the window-aware FOPDT model. It
+// returns the steps in time order and file-level warnings.
+func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
+	cfg = cfg.withDefaults()
+	var warns []string
+	if tr == nil || tr.Len() < 8 {
+		return nil, []string{"the track is too short to look for steps"}
+	}
+	hop := trackHop(tr)
+	if !(hop > 0) {
+		return nil, []string{"the track's sample times are not increasing; no steps fitted"}
+	}
+	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
+
+	var plans []stepPlan
+	if len(cfg.CommandTimesS) > 0 {
+		cmds := cleanTimes(cfg.CommandTimesS)
+		t0, t1 := tr.TimeS[0], tr.TimeS[tr.Len()-1]
+		for _, c := range cmds {
+			if c < t0-preWindowS || c > t1-4*hop {
+				warns = append(warns, fmt.Sprintf("command time %.3f s is outside the track (%.3f–%.3f s); ignored", c, t0, t1))
+				continue
+			}
+			plans = append(plans, stepPlan{commandS: c, onsetLo: c, onsetHi: c + maxDeadTimeS})
+		}
+		planWindows(plans, tr, &k)
+	} else {
+		var dw []string
+		plans, dw = detectSteps(tr, &k, cfg)
+		warns = append(warns, dw...)
+		if len(plans) == 0 {
+			warns = append(warns, "no throttle step found in the track")
+		}
+	}
+
+	var out []StepResult
+	for i := range plans {
+		res, err := fitPlan(tr, &k, hop, &plans[i], cfg, uint64(i))
+		if err != nil {
+			warns = append(warns, fmt.Sprintf("step near %.3f s not fitted: %v", plans[i].anchor(), err))
+			continue
+		}
+		out = append(out, *res)
+	}
+	sort.SliceStable(out, func(a, b int) bool { return out[a].ResponseStartS < out[b].ResponseStartS })
+	return out, warns
+}
+
+// stepPlan is a step to fit: where its onset may lie and which stretch of
+// the track belongs to it.
+type stepPlan struct {
+	commandS         float64 // NaN when not known
+	onsetLo, onsetHi float64
+	fromS, toS       float64
+	standstill       bool // starts from standstill: r0 = 0
+	notes            []string
+}
+
+func (p *stepPlan) anchor() float64 {
+	if !math.IsNaN(p.commandS) {
+		return p.commandS
+	}
+	return (p.onsetLo + p.onsetHi) / 2
+}
+
+func (p *stepPlan) hasCommand() bool { return !math.IsNaN(p.commandS) }
+
+// planWindows sets each plan's fit stretch: from a little before its onset
+// range (but not before the previous step's response has mostly passed) to
+// just before the next step starts to show in the track.
+func planWindows(plans []stepPlan, tr *Track, k *fopdtKernel) {
+	tEnd := tr.TimeS[tr.Len()-1]
+	for i := range plans {
+		p := &plans[i]
+		p.fromS = p.onsetLo - math.Max(preWindowS, 1.5*k.spanS())
+		if i > 0 {
+			prev := plans[i-1].onsetLo
+			p.fromS = math.Max(p.fromS, prev+0.6*(p.onsetLo-prev))
+		}
+		p.toS = math.Min(tEnd, p.onsetLo+maxPostWindowS)
+		if i+1 < len(plans) {
+			// A sample at t sees the trajectory up to t + k.right.
+			p.toS = math.Min(p.toS, plans[i+1].onsetLo-k.right-trackHop(tr)/2)
+		}
+		p.onsetHi = math.Min(p.onsetHi, p.onsetLo+0.6*(p.toS-p.onsetLo))
+		if p.onsetHi < p.onsetLo {
+			p.onsetHi = p.onsetLo
+		}
+	}
+}
+
+// trackHop returns the median sample spacing.
+func trackHop(tr *Track) float64 {
+	n := tr.Len()
+	if n < 2 {
+		return math.NaN()
+	}
+	d := make([]float64, 0, n-1)
+	for i := 1; i < n; i++ {
+		d = append(d, tr.TimeS[i]-tr.TimeS[i-1])
+	}
+	return median(d)
+}
+
+// cleanTimes sorts, drops non-finite values and merges duplicates.
+func cleanTimes(ts []float64) []float64 {
+	var out []float64
+	for _, t := range ts {
+		if !math.IsNaN(t) && !math.IsInf(t, 0) {
+			out = append(out, t)
+		}
+	}
+	sort.Float64s(out)
+	j := 0
+	for i, t := range out {
+		if i > 0 && t-out[j-1] < 1e-3 {
+			continue
+		}
+		out[j] = t
+		j++
+	}
+	return out[:j]
+}
+
+// stepDataFrom collects the valid samples of tr in [from, to].
+func stepDataFrom(tr *Track, k *fopdtKernel, hop, from, to float64) *stepData {
+	d := &stepData{hop: hop, k: k}
+	var sig []float64
+	for i, t := range tr.TimeS {
+		if t < from || t > to || !tr.Valid(i) {
+			continue
+		}
+		d.t = append(d.t, t)
+		d.y = append(d.y, tr.ShaftHz[i])
+		d.idx = append(d.idx, i)
+		s := math.NaN()
+		if i < len(tr.SigmaHz) {
+			s = tr.SigmaHz[i]
+		}
+		sig = append(sig, s)
+	}
+	d.sw = sampleWeights(sig)
+	return d
+}
+
+// sampleWeights turns per-sample standard errors into √weights with mean
+// weight 1. Errors are clipped to [½, 3]× their median, so that a few
+// samples cannot dominate and a tracker's pessimism during a fast
+// transition cannot hide the transition; without usable errors all
+// weights are 1.
+func sampleWeights(sig []float64) []float64 {
+	sw := make([]float64, len(sig))
+	var ok []float64
+	for _, s := range sig {
+		if s > 0 && !math.IsInf(s, 0) {
+			ok = append(ok, s)
+		}
+	}
+	if len(ok) < len(sig) || len(ok) == 0 {
+		for i := range sw {
+			sw[i] = 1
+		}
+		return sw
+	}
+	m := median(ok)
+	sum := 0.0
+	for i, s := range sig {
+		s = math.Min(math.Max(s, m/2), 3*m)
+		sw[i] = 1 / (s * s)
+		sum += sw[i]
+	}
+	mean := sum / float64(len(sw))
+	for i := range sw {
+		sw[i] = math.Sqrt(sw[i] / mean)
+	}
+	return sw
+}

@@ -1,0 +1,260 @@
+package analysis
+
+import (
+	"fmt"
+	"math"
+	"sort"
+)
+
+// Step detection on a speed track.
+//
+// The track is median filtered (a few frames, which keeps edges and removes
+// single-frame glitches), its noise level is measured robustly from
+// differences one window length apart (where frame errors are nearly
+// uncorrelated), and a two-window median difference
+//
+//	D_i = median(y_{i+1..i+W}) − median(y_{i−W..i−1})
+//
+// is scanned for runs that exceed a threshold (a robust change-point
+// statistic: medians ignore a brief dropout or glitch). Each run's extreme
+// is a candidate. For each candidate the plateau-to-plateau change is
+// measured on windows pushed outwards until the change stops growing (a
+// step saturates, a ramp keeps growing), the onset is located where the
+// track leaves its plateau, and the candidate is kept when the change is
+// well above the noise, at least MinChangeFraction of the speed, and the
+// 10–90 % transition is shorter than MaxRiseS (else it is a ramp). The fit
+// then confirms it (fitPlan).
+
+const (
+	detectWindowS    = 0.06 // W: half of the shortest step spacing (0.25 s) leaves room
+	detectMedianS    = 0.012
+	detectNoiseK     = 8   // change must exceed this many noise sds
+	standstillMinGap = 0.1 // leading no-motor stretch that means "from standstill"
+)
+
+// detectSteps returns planned steps (without command times) and warnings.
+func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []string) {
+	n := tr.Len()
+	hop := trackHop(tr)
+	var warns []string
+	y := medianFilter(tr.ShaftHz, max(1, int(math.Round(detectMedianS/hop/2))))
+	lag := max(1, int(math.Ceil(k.spanS()/hop)))
+	sigma := robustNoise(y, lag)
+	W := max(3, int(math.Round(detectWindowS/hop)))
+
+	D := make([]float64, n)
+	lvl := make([]float64, n)
+	for i := range D {
+		D[i] = math.NaN()
+		b := windowMedian(y, i-W, i-1)
+		a := windowMedian(y, i+1, i+W)
+		if !math.IsNaN(a) && !math.IsNaN(b) {
+			D[i] = a - b
+			lvl[i] = math.Max(math.Abs(a), math.Abs(b))
+		}
+	}
+	thr := func(i int) float64 {
+		return math.Max(detectNoiseK*sigma, 0.5*cfg.MinChangeFraction*lvl[i])
+	}
+	// Candidates: extreme of each run of same-signed super-threshold D.
+	var cands []int
+	for i := 0; i < n; {
+		if math.IsNaN(D[i]) || math.Abs(D[i]) <= thr(i) {
+			i++
+			continue
+		}
+		sgn := math.Signbit(D[i])
+		best := i
+		j := i
+		for j < n && !math.IsNaN(D[j]) && math.Abs(D[j]) > thr(j) && math.Signbit(D[j]) == sgn {
+			if math.Abs(D[j]) > math.Abs(D[best]) {
+				best = j
+			}
+			j++
+		}
+		cands = append(cands, best)
+		i = j
+	}
+
+	var plans []stepPlan
+	tStart := tr.TimeS[0]
+	first := -1
+	for i := 0; i < n; i++ {
+		if !math.IsNaN(y[i]) {
+			first = i
+			break
+		}
+	}
+	if first < 0 {
+		return nil, []string{"no motor found anywhere in the track"}
+	}
+	if tr.TimeS[first]-tStart >= standstillMinGap {
+		// Leading stretch without motor: a spin-up from standstill if the
+		// first part the tracker sees is still rising.
+		a := windowMedian(y, first, first+W/2)
+		b := windowMedian(y, first+W, first+2*W)
+		if !math.IsNaN(a) && !math.IsNaN(b) && b-a > math.Max(detectNoiseK*sigma, cfg.MinChangeFraction*b) {
+			t1 := tr.TimeS[first]
+			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true,
+				notes: []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}})
+			// Drop candidates inside this spin-up.
+			for len(cands) > 0 && tr.TimeS[cands[0]] < t1+0.1 {
+				cands = cands[1:]
+			}
+		}
+	}
+
+	for ci, c := range cands {
+		left := 0
+		if ci > 0 {
+			left = (cands[ci-1] + c) / 2
+		}
+		right := n - 1
+		if ci+1 < len(cands) {
+			right = (c + cands[ci+1]) / 2
+		}
+		left = max(left, first)
+		// Push the plateau windows outwards until the change stops growing.
+		P := W
+		bestChange, bestB, bestA := 0.0, math.NaN(), math.NaN()
+		for _, qs := range []float64{0.01, 0.03, 0.06, 0.1, 0.15, 0.25, 0.4} {
+			Q := int(math.Round(qs / hop))
+			bi, ai := c-Q, c+Q
+			if bi-P/2 < left || ai+P/2 > right {
+				// Still use a shortened window if at least P/2 fits.
+				if bi-P/4 < left || ai+P/4 > right {
+					break
+				}
+			}
+			b := windowMedian(y, max(left, bi-P), bi)
+			a := windowMedian(y, ai, min(right, ai+P))
+			if math.IsNaN(a) || math.IsNaN(b) {
+				continue
+			}
+			ch := a - b
+			if math.Abs(ch) > math.Abs(bestChange)*1.05 {
+				bestChange, bestB, bestA = ch, b, a
+			} else if math.Abs(ch) > 0.5*math.Abs(bestChange) {
+				// Saturated.
+				break
+			}
+		}
+		if math.IsNaN(bestB) {
+			continue
+		}
+		level := math.Max(math.Abs(bestA), math.Abs(bestB))
+		if math.Abs(bestChange) < math.Max(detectNoiseK*sigma, cfg.MinChangeFraction*level) {
+			continue
+		}
+		// Crossing times of 10 % and 90 % around c.
+		t10, t90 := crossingsAround(tr.TimeS, y, c, left, right, bestB, bestA)
+		if math.IsNaN(t10) || math.IsNaN(t90) {
+			continue
+		}
+		if rise := t90 - t10; rise > cfg.MaxRiseS+k.spanS() {
+			warns = append(warns, fmt.Sprintf("a slow change of %.0f rpm near %.2f s (10–90 %% in %.2f s) looks like a ramp, not a step; not fitted", RPM(bestChange), tr.TimeS[c], rise))
+			continue
+		}
+		// The 10 % point of a first-order response is 0.105 τ after the
+		// onset; the window smears it earlier by up to half its span.
+		onset := t10
+		plans = append(plans, stepPlan{commandS: math.NaN(),
+			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop})
+	}
+	sort.Slice(plans, func(a, b int) bool { return plans[a].onsetLo < plans[b].onsetLo })
+	// Merge plans whose onset ranges overlap (one transition seen twice).
+	var merged []stepPlan
+	for _, p := range plans {
+		if m := len(merged); m > 0 && p.onsetLo < merged[m-1].onsetHi {
+			continue
+		}
+		merged = append(merged, p)
+	}
+	planWindows(merged, tr, k)
+	return merged, warns
+}
+
+// crossingsAround finds, walking out from index c, the last time before c
+// that y is at or beyond 10 % of the change from b towards a, and the first
+// time after c that it reaches 90 %.
+func crossingsAround(ts, y []float64, c, left, right int, b, a float64) (t10, t90 float64) {
+	t10, t90 = math.NaN(), math.NaN()
+	frac := func(v float64) float64 { return (v - b) / (a - b) }
+	for i := min(c, right); i >= left; i-- {
+		if !math.IsNaN(y[i]) && frac(y[i]) <= 0.1 {
+			t10 = ts[i]
+			break
+		}
+	}
+	for i := max(c, left); i <= right; i++ {
+		if !math.IsNaN(y[i]) && frac(y[i]) >= 0.9 {
+			t90 = ts[i]
+			break
+		}
+	}
+	return t10, t90
+}
+
+// medianFilter returns the running median over 2h+1 samples, ignoring NaN
+// (NaN where fewer than h+1 are valid).
+func medianFilter(x []float64, h int) []float64 {
+	out := make([]float64, len(x))
+	buf := make([]float64, 0, 2*h+1)
+	for i := range x {
+		buf = buf[:0]
+		for j := max(0, i-h); j <= min(len(x)-1, i+h); j++ {
+			if !math.IsNaN(x[j]) {
+				buf = append(buf, x[j])
+			}
+		}
+		if len(buf) < h+1 || math.IsNaN(x[i]) {
+			out[i] = math.NaN()
+			continue
+		}
+		sort.Float64s(buf)
+		out[i] = buf[len(buf)/2]
+		if len(buf)%2 == 0 {
+			out[i] = (buf[len(buf)/2-1] + buf[len(buf)/2]) / 2
+		}
+	}
+	return out
+}
+
+// windowMedian is the median of the valid samples in y[lo..hi] (clipped),
+// NaN when fewer than half are valid.
+func windowMedian(y []float64, lo, hi int) float64 {
+	lo, hi = max(lo, 0), min(hi, len(y)-1)
+	if hi < lo {
+		return math.NaN()
+	}
+	var v []float64
+	for i := lo; i <= hi; i++ {
+		if !math.IsNaN(y[i]) {
+			v = append(v, y[i])
+		}
+	}
+	if 2*len(v) < hi-lo+1 || len(v) == 0 {
+		return math.NaN()
+	}
+	return median(v)
+}
+
+// robustNoise is the standard deviation of the track noise from the median
+// absolute deviation of differences lag samples apart (steps affect few of
+// them).
+func robustNoise(y []float64, lag int) float64 {
+	var d []float64
+	for i := 0; i+lag < len(y); i++ {
+		if !math.IsNaN(y[i]) && !math.IsNaN(y[i+lag]) {
+			d = append(d, y[i+lag]-y[i])
+		}
+	}
+	if len(d) < 4 {
+		return 0
+	}
+	m := median(d)
+	for i := range d {
+		d[i] = math.Abs(d[i] - m)
+	}
+	return 1.4826 * median(d) / math.Sqrt2
+}
