@@ -1,14 +1,95 @@
 package main
 
-// TEMPORARY until the window exists: the window's author replaces this file.
-
 import (
 	"context"
+	"flag"
 	"fmt"
 	"io"
+	"os"
+	"path/filepath"
+
+	"fyne.io/fyne/v2"
+	fyneapp "fyne.io/fyne/v2/app"
+
+	"whirlfit/assets"
+	"whirlfit/ui"
 )
 
+// appID names whirlfit's preferences store.
+const appID = "invalid.whirlfit.app"
+
+func init() {
+	register(command{
+		name:    "open",
+		summary: "open recordings in the window",
+		run:     runOpen,
+	})
+}
+
+// runOpen is 'whirlfit open FILE...': the window on the given files (the
+// first in the analysis view, all of them in the comparison).
+func runOpen(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("open", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintln(stderr, "usage: whirlfit open FILE...")
+		fmt.Fprintln(stderr, "\nOpens the window on the recordings: the first one is analysed and shown,")
+		fmt.Fprintln(stderr, "and when there are several all of them go into the Compare tab.")
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		if err == flag.ErrHelp {
+			return 0
+		}
+		return 2
+	}
+	files := fs.Args()
+	if len(files) == 0 {
+		fmt.Fprintln(stderr, "whirlfit: open needs at least one file")
+		return 2
+	}
+	for _, f := range files {
+		if _, err := os.Stat(f); err != nil {
+			fmt.Fprintf(stderr, "whirlfit: %v\n", err)
+			return 1
+		}
+	}
+	return runWindow(ctx, files, stderr)
+}
+
+// runWindow opens the window on files or, when there are none, on the
+// embedded demo, and returns when the window is closed.
 func runWindow(ctx context.Context, files []string, stderr io.Writer) int {
-	fmt.Fprintln(stderr, "whirlfit: the window is not built yet")
-	return 1
+	a := fyneapp.NewWithID(appID)
+	a.SetIcon(fyne.NewStaticResource("whirlfit.png", assets.Icon))
+	win := a.NewWindow("whirlfit")
+	w := ui.New(a, win)
+	win.Resize(ui.SavedSize(a.Preferences()))
+	win.SetCloseIntercept(func() {
+		w.Close()
+		win.Close()
+	})
+	if len(files) == 0 {
+		w.FirstStart()
+	} else {
+		abs := make([]string, len(files))
+		for i, f := range files {
+			if p, err := filepath.Abs(f); err == nil {
+				abs[i] = p
+			} else {
+				abs[i] = f
+			}
+		}
+		w.Open(abs)
+	}
+	// Ctrl-C in the terminal closes the window like its close button.
+	go func() {
+		<-ctx.Done()
+		fyne.Do(func() { w.Close(); a.Quit() })
+	}()
+	if shots := os.Getenv(ui.ScreenshotEnv); shots != "" {
+		go ui.Screenshots(w, shots, a.Quit, stderr)
+	}
+	win.ShowAndRun()
+	return 0
 }
