@@ -136,63 +136,7 @@ func le64f(v ...float64) []byte {
 // expected values are the codes scaled by 2^-(bits-1) (common practice,
 // the convention of libsndfile and sox).
 func TestDecodeWAVFormats(t *testing.T) {
-	s24 := []byte{0x00, 0x00, 0x80, 0xFF, 0xFF, 0x7F, 0x00, 0x00, 0x40} // −2^23, 2^23−1, 2^22
-	s32 := make([]byte, 12)
-	binary.LittleEndian.PutUint32(s32[0:], 0x80000000)
-	binary.LittleEndian.PutUint32(s32[4:], 0x40000000)
-	binary.LittleEndian.PutUint32(s32[8:], 0xC0000000)
-	tests := []struct {
-		name      string
-		spec      wavSpec
-		codec     string
-		bits      int
-		want      [][]float32
-		nonFinite int
-	}{
-		{"u8", wavSpec{bits: 8, data: []byte{0, 128, 255, 192}, dataSize: -1}, "PCM", 8,
-			[][]float32{{-1, 0, 127.0 / 128, 0.5}}, 0},
-		{"s16", wavSpec{data: le16(-32768, 0, 32767, 16384), dataSize: -1}, "PCM", 16,
-			[][]float32{{-1, 0, 32767.0 / 32768, 0.5}}, 0},
-		{"s24", wavSpec{bits: 24, data: s24, dataSize: -1}, "PCM", 24,
-			[][]float32{{-1, float32(8388607.0 / 8388608), 0.5}}, 0},
-		{"s32", wavSpec{bits: 32, data: s32, dataSize: -1}, "PCM", 32,
-			[][]float32{{-1, 0.5, -0.5}}, 0},
-		{"f32 with NaN and Inf", wavSpec{tag: wavFormatIEEEFloat, bits: 32, dataSize: -1,
-			data: le32f(0.15, -0.5, float32(math.NaN()), float32(math.Inf(1)), 1.5)}, "IEEE float", 32,
-			[][]float32{{0.15, -0.5, 0, 0, 1.5}}, 2},
-		{"f64", wavSpec{tag: wavFormatIEEEFloat, bits: 64, dataSize: -1,
-			data: le64f(0.15, -0.25, math.Inf(-1), 1e300)}, "IEEE float", 64,
-			[][]float32{{0.15, -0.25, 0, 0}}, 2},
-		{"stereo s16 deinterleaved", wavSpec{channels: 2, data: le16(1, -1, 2, -2, 3, -3), dataSize: -1}, "PCM", 16,
-			[][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}, {-1.0 / 32768, -2.0 / 32768, -3.0 / 32768}}, 0},
-		{"extensible PCM 24 in 32 valid bits", wavSpec{extensible: true, bits: 32, validBits: 24, data: s32, dataSize: -1}, "PCM (extensible)", 24,
-			[][]float32{{-1, 0.5, -0.5}}, 0},
-		{"extensible float 3 channels", wavSpec{extensible: true, tag: wavFormatIEEEFloat, channels: 3, bits: 32,
-			data: le32f(0.1, 0.2, 0.3, -0.1, -0.2, -0.3), dataSize: -1}, "IEEE float (extensible)", 32,
-			[][]float32{{0.1, -0.1}, {0.2, -0.2}, {0.3, -0.3}}, 0},
-		{"LIST fact bext cue junk before data", wavSpec{dataSize: -1, data: le16(100, 200),
-			before: bytes.Join([][]byte{chunk("LIST", []byte("INFOISFT\x03\x00\x00\x00ab\x00"), true), chunk("fact", []byte{2, 0, 0, 0}, true),
-				chunk("bext", make([]byte, 11), true), chunk("cue ", make([]byte, 4), true), chunk("junk", make([]byte, 3), true)}, nil)},
-			"PCM", 16, [][]float32{{100.0 / 32768, 200.0 / 32768}}, 0},
-		{"odd chunk without pad byte", wavSpec{dataSize: -1, data: le16(7), before: chunk("LIST", []byte("INFOx"), false)},
-			"PCM", 16, [][]float32{{7.0 / 32768}}, 0},
-		{"odd chunk with pad byte", wavSpec{dataSize: -1, data: le16(7), before: chunk("junk", []byte("abc"), true)},
-			"PCM", 16, [][]float32{{7.0 / 32768}}, 0},
-		{"odd u8 data with pad then LIST", wavSpec{bits: 8, dataSize: -1, data: []byte{128, 192, 64}, after: append([]byte{0}, chunk("LIST", []byte("INFO"), true)...)},
-			"PCM", 8, [][]float32{{0, 0.5, -0.5}}, 0},
-		{"odd u8 data without pad then LIST", wavSpec{bits: 8, dataSize: -1, data: []byte{128, 192, 64}, after: chunk("LIST", []byte("INFO"), true)},
-			"PCM", 8, [][]float32{{0, 0.5, -0.5}}, 0},
-		{"chunks after data", wavSpec{dataSize: -1, data: le16(5, 6), after: chunk("LIST", []byte("INFOabcd"), true)},
-			"PCM", 16, [][]float32{{5.0 / 32768, 6.0 / 32768}}, 0},
-		{"data size 0xFFFFFFFF = to end", wavSpec{dataSize: 0xFFFFFFFF, data: le16(1, 2, 3)},
-			"PCM", 16, [][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}}, 0},
-		{"data size 0 = to end", wavSpec{dataSize: 0, data: le16(1, 2, 3)},
-			"PCM", 16, [][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}}, 0},
-		{"8 kHz", wavSpec{rate: 8000, dataSize: -1, data: le16(1)}, "PCM", 16, [][]float32{{1.0 / 32768}}, 0},
-		{"192 kHz", wavSpec{rate: 192000, dataSize: -1, data: le16(1)}, "PCM", 16, [][]float32{{1.0 / 32768}}, 0},
-		{"9 channels", wavSpec{channels: 9, dataSize: -1, data: le16(1, 2, 3, 4, 5, 6, 7, 8, 9)}, "PCM", 16,
-			[][]float32{{1. / 32768}, {2. / 32768}, {3. / 32768}, {4. / 32768}, {5. / 32768}, {6. / 32768}, {7. / 32768}, {8. / 32768}, {9. / 32768}}, 0},
-	}
+	tests := wavFormatCases()
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
 			a, err := decodeWAV(tt.name, tt.spec.bytes(), maxSamples)
@@ -259,43 +203,7 @@ func TestDecodeWAVWarnings(t *testing.T) {
 // TestDecodeBadInput: each fault gives one line naming the file and the
 // fault, of the stated type, and no panic.
 func TestDecodeBadInput(t *testing.T) {
-	pcm := le16(1, 2, 3, 4)
-	huge := wavSpec{dataSize: -1, data: pcm, before: append([]byte("LIST\xff\xff\xff\xffINFO"), make([]byte, 1000)...)}
-	tests := []struct {
-		name        string
-		data        []byte
-		unsupported bool   // want *UnsupportedError (else *FormatError)
-		want        string // in the message
-	}{
-		{"empty file", nil, false, "empty file"},
-		{"truncated RIFF header", []byte("RIFF\x10\x00"), false, "truncated WAV header"},
-		{"header only", []byte("RIFF\x04\x00\x00\x00WAVE"), false, "no fmt chunk"},
-		{"truncated fmt chunk", wavSpec{data: pcm, dataSize: -1}.bytes()[:30], false, "\"fmt \" chunk"},
-		{"no data chunk", wavSpec{noData: true}.bytes(), false, "no data chunk"},
-		{"no fmt chunk", wavSpec{noFmt: true, data: pcm, dataSize: -1}.bytes(), false, "no fmt chunk"},
-		{"zero channels", wavSpec{channels: 0, blockAlign: 2, data: pcm, dataSize: -1}.bytesWith(func(b []byte) { b[22] = 0 }), false, "zero channels"},
-		{"zero sample rate", wavSpec{rate: 0, data: pcm, dataSize: -1}.bytesWith(func(b []byte) { copy(b[24:28], []byte{0, 0, 0, 0}) }), false, "sample rate 0"},
-		{"block align mismatch", wavSpec{blockAlign: 3, data: pcm, dataSize: -1}.bytes(), false, "block align 3"},
-		{"text renamed .wav", []byte("hello, this is a text file\nnot audio\n"), false, "text file"},
-		{"LIST claims 4 GB in a 1 kB file", huge.bytes(), false, "claims 4294967295 bytes"},
-		{"fmt claims 1 GB", wavSpec{fmtSize: 1 << 30, data: pcm, dataSize: -1}.bytes(), false, "claims 1073741824 bytes"},
-		{"bad chunk ID", append([]byte("RIFF\x00\x00\x00\x00WAVE"), 0, 1, 2, 3, 4, 0, 0, 0), false, "no RIFF chunk ID"},
-		{"fmt too short", wavSpec{fmtSize: 14, data: pcm, dataSize: -1}.bytesWith(func(b []byte) {}), false, ""},
-		{"extensible too short", wavSpec{extensible: true, fmtSize: 18, data: pcm, dataSize: -1}.bytes(), false, ""},
-		{"valid bits above container", wavSpec{extensible: true, bits: 16, validBits: 20, data: pcm, dataSize: -1}.bytes(), false, "20 valid bits"},
-		{"sample rate 4 kHz", wavSpec{rate: 4000, data: pcm, dataSize: -1}.bytes(), true, "4000 Hz outside"},
-		{"sample rate 384 kHz", wavSpec{rate: 384000, data: pcm, dataSize: -1}.bytes(), true, "384000 Hz outside"},
-		{"12-bit PCM in 12 bits", wavSpec{extensible: true, bits: 12, blockAlign: 2, data: pcm, dataSize: -1}.bytes(), true, "12-bit"},
-		{"16-bit float", wavSpec{tag: wavFormatIEEEFloat, bits: 16, data: pcm, dataSize: -1}.bytes(), true, "16-bit IEEE float"},
-		{"µ-law", wavSpec{tag: 7, bits: 8, data: pcm, dataSize: -1}.bytes(), true, "µ-law"},
-		{"unknown GUID", wavSpec{extensible: true, subFormat: bytes.Repeat([]byte{7}, 16), data: pcm, dataSize: -1}.bytes(), true, "sub-format GUID"},
-		{"RIFF but AVI", []byte("RIFF\x04\x00\x00\x00AVI LIST"), true, "not WAVE"},
-		{"random bytes", []byte{0x12, 0x00, 0x34, 0x01, 0x99, 0xFE}, true, "not a recognised audio file"},
-		{"Ogg without ffmpeg", []byte("OggS\x00\x02\x00\x00\x00\x00"), true, "Ogg audio is not read directly"},
-		{"zero-length data", wavSpec{data: nil, dataSize: -1}.bytes(), false, "no samples"},
-		{"FLAC signature only", []byte("fLaC"), false, "FLAC"},
-		{"MP3 sync then garbage", append([]byte{0xFF, 0xFB, 0x90, 0x64}, make([]byte, 300)...), false, "MP3"},
-	}
+	tests := badInputCases()
 	d := decoder{limit: maxSamples} // as if ffmpeg were not installed
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
@@ -379,5 +287,111 @@ func TestDecodeWAVNoAllocationFromHeader(t *testing.T) {
 			t.Errorf("%s: %d samples from %d bytes", name, a.Frames()*len(a.Channels), len(data))
 		}
 		t.Logf("%s: err=%v, %v allocs", name, err, allocs)
+	}
+}
+
+// badInputCase is one row of TestDecodeBadInput, reused as a fuzz seed.
+type badInputCase struct {
+	name        string
+	data        []byte
+	unsupported bool   // want *UnsupportedError (else *FormatError)
+	want        string // in the message
+}
+
+func badInputCases() []badInputCase {
+	pcm := le16(1, 2, 3, 4)
+	huge := wavSpec{dataSize: -1, data: pcm, before: append([]byte("LIST\xff\xff\xff\xffINFO"), make([]byte, 1000)...)}
+	return []badInputCase{
+		{"empty file", nil, false, "empty file"},
+		{"truncated RIFF header", []byte("RIFF\x10\x00"), false, "truncated WAV header"},
+		{"header only", []byte("RIFF\x04\x00\x00\x00WAVE"), false, "no fmt chunk"},
+		{"truncated fmt chunk", wavSpec{data: pcm, dataSize: -1}.bytes()[:30], false, "\"fmt \" chunk"},
+		{"no data chunk", wavSpec{noData: true}.bytes(), false, "no data chunk"},
+		{"no fmt chunk", wavSpec{noFmt: true, data: pcm, dataSize: -1}.bytes(), false, "no fmt chunk"},
+		{"zero channels", wavSpec{channels: 0, blockAlign: 2, data: pcm, dataSize: -1}.bytesWith(func(b []byte) { b[22] = 0 }), false, "zero channels"},
+		{"zero sample rate", wavSpec{rate: 0, data: pcm, dataSize: -1}.bytesWith(func(b []byte) { copy(b[24:28], []byte{0, 0, 0, 0}) }), false, "sample rate 0"},
+		{"block align mismatch", wavSpec{blockAlign: 3, data: pcm, dataSize: -1}.bytes(), false, "block align 3"},
+		{"text renamed .wav", []byte("hello, this is a text file\nnot audio\n"), false, "text file"},
+		{"LIST claims 4 GB in a 1 kB file", huge.bytes(), false, "claims 4294967295 bytes"},
+		{"fmt claims 1 GB", wavSpec{fmtSize: 1 << 30, data: pcm, dataSize: -1}.bytes(), false, "claims 1073741824 bytes"},
+		{"bad chunk ID", append([]byte("RIFF\x00\x00\x00\x00WAVE"), 0, 1, 2, 3, 4, 0, 0, 0), false, "no RIFF chunk ID"},
+		{"fmt too short", wavSpec{fmtSize: 14, data: pcm, dataSize: -1}.bytesWith(func(b []byte) {}), false, ""},
+		{"extensible too short", wavSpec{extensible: true, fmtSize: 18, data: pcm, dataSize: -1}.bytes(), false, ""},
+		{"valid bits above container", wavSpec{extensible: true, bits: 16, validBits: 20, data: pcm, dataSize: -1}.bytes(), false, "20 valid bits"},
+		{"sample rate 4 kHz", wavSpec{rate: 4000, data: pcm, dataSize: -1}.bytes(), true, "4000 Hz outside"},
+		{"sample rate 384 kHz", wavSpec{rate: 384000, data: pcm, dataSize: -1}.bytes(), true, "384000 Hz outside"},
+		{"12-bit PCM in 12 bits", wavSpec{extensible: true, bits: 12, blockAlign: 2, data: pcm, dataSize: -1}.bytes(), true, "12-bit"},
+		{"16-bit float", wavSpec{tag: wavFormatIEEEFloat, bits: 16, data: pcm, dataSize: -1}.bytes(), true, "16-bit IEEE float"},
+		{"µ-law", wavSpec{tag: 7, bits: 8, data: pcm, dataSize: -1}.bytes(), true, "µ-law"},
+		{"unknown GUID", wavSpec{extensible: true, subFormat: bytes.Repeat([]byte{7}, 16), data: pcm, dataSize: -1}.bytes(), true, "sub-format GUID"},
+		{"RIFF but AVI", []byte("RIFF\x04\x00\x00\x00AVI LIST"), true, "not WAVE"},
+		{"random bytes", []byte{0x12, 0x00, 0x34, 0x01, 0x99, 0xFE}, true, "not a recognised audio file"},
+		{"Ogg without ffmpeg", []byte("OggS\x00\x02\x00\x00\x00\x00"), true, "Ogg audio is not read directly"},
+		{"zero-length data", wavSpec{data: nil, dataSize: -1}.bytes(), false, "no samples"},
+		{"FLAC signature only", []byte("fLaC"), false, "FLAC"},
+		{"MP3 sync then garbage", append([]byte{0xFF, 0xFB, 0x90, 0x64}, make([]byte, 300)...), false, "MP3"},
+	}
+}
+
+// wavFormatCase is one row of TestDecodeWAVFormats, reused as a fuzz seed.
+type wavFormatCase struct {
+	name      string
+	spec      wavSpec
+	codec     string
+	bits      int
+	want      [][]float32
+	nonFinite int
+}
+
+func wavFormatCases() []wavFormatCase {
+	s24 := []byte{0x00, 0x00, 0x80, 0xFF, 0xFF, 0x7F, 0x00, 0x00, 0x40} // −2^23, 2^23−1, 2^22
+	s32 := make([]byte, 12)
+	binary.LittleEndian.PutUint32(s32[0:], 0x80000000)
+	binary.LittleEndian.PutUint32(s32[4:], 0x40000000)
+	binary.LittleEndian.PutUint32(s32[8:], 0xC0000000)
+	return []wavFormatCase{
+		{"u8", wavSpec{bits: 8, data: []byte{0, 128, 255, 192}, dataSize: -1}, "PCM", 8,
+			[][]float32{{-1, 0, 127.0 / 128, 0.5}}, 0},
+		{"s16", wavSpec{data: le16(-32768, 0, 32767, 16384), dataSize: -1}, "PCM", 16,
+			[][]float32{{-1, 0, 32767.0 / 32768, 0.5}}, 0},
+		{"s24", wavSpec{bits: 24, data: s24, dataSize: -1}, "PCM", 24,
+			[][]float32{{-1, float32(8388607.0 / 8388608), 0.5}}, 0},
+		{"s32", wavSpec{bits: 32, data: s32, dataSize: -1}, "PCM", 32,
+			[][]float32{{-1, 0.5, -0.5}}, 0},
+		{"f32 with NaN and Inf", wavSpec{tag: wavFormatIEEEFloat, bits: 32, dataSize: -1,
+			data: le32f(0.15, -0.5, float32(math.NaN()), float32(math.Inf(1)), 1.5)}, "IEEE float", 32,
+			[][]float32{{0.15, -0.5, 0, 0, 1.5}}, 2},
+		{"f64", wavSpec{tag: wavFormatIEEEFloat, bits: 64, dataSize: -1,
+			data: le64f(0.15, -0.25, math.Inf(-1), 1e300)}, "IEEE float", 64,
+			[][]float32{{0.15, -0.25, 0, 0}}, 2},
+		{"stereo s16 deinterleaved", wavSpec{channels: 2, data: le16(1, -1, 2, -2, 3, -3), dataSize: -1}, "PCM", 16,
+			[][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}, {-1.0 / 32768, -2.0 / 32768, -3.0 / 32768}}, 0},
+		{"extensible PCM 24 in 32 valid bits", wavSpec{extensible: true, bits: 32, validBits: 24, data: s32, dataSize: -1}, "PCM (extensible)", 24,
+			[][]float32{{-1, 0.5, -0.5}}, 0},
+		{"extensible float 3 channels", wavSpec{extensible: true, tag: wavFormatIEEEFloat, channels: 3, bits: 32,
+			data: le32f(0.1, 0.2, 0.3, -0.1, -0.2, -0.3), dataSize: -1}, "IEEE float (extensible)", 32,
+			[][]float32{{0.1, -0.1}, {0.2, -0.2}, {0.3, -0.3}}, 0},
+		{"LIST fact bext cue junk before data", wavSpec{dataSize: -1, data: le16(100, 200),
+			before: bytes.Join([][]byte{chunk("LIST", []byte("INFOISFT\x03\x00\x00\x00ab\x00"), true), chunk("fact", []byte{2, 0, 0, 0}, true),
+				chunk("bext", make([]byte, 11), true), chunk("cue ", make([]byte, 4), true), chunk("junk", make([]byte, 3), true)}, nil)},
+			"PCM", 16, [][]float32{{100.0 / 32768, 200.0 / 32768}}, 0},
+		{"odd chunk without pad byte", wavSpec{dataSize: -1, data: le16(7), before: chunk("LIST", []byte("INFOx"), false)},
+			"PCM", 16, [][]float32{{7.0 / 32768}}, 0},
+		{"odd chunk with pad byte", wavSpec{dataSize: -1, data: le16(7), before: chunk("junk", []byte("abc"), true)},
+			"PCM", 16, [][]float32{{7.0 / 32768}}, 0},
+		{"odd u8 data with pad then LIST", wavSpec{bits: 8, dataSize: -1, data: []byte{128, 192, 64}, after: append([]byte{0}, chunk("LIST", []byte("INFO"), true)...)},
+			"PCM", 8, [][]float32{{0, 0.5, -0.5}}, 0},
+		{"odd u8 data without pad then LIST", wavSpec{bits: 8, dataSize: -1, data: []byte{128, 192, 64}, after: chunk("LIST", []byte("INFO"), true)},
+			"PCM", 8, [][]float32{{0, 0.5, -0.5}}, 0},
+		{"chunks after data", wavSpec{dataSize: -1, data: le16(5, 6), after: chunk("LIST", []byte("INFOabcd"), true)},
+			"PCM", 16, [][]float32{{5.0 / 32768, 6.0 / 32768}}, 0},
+		{"data size 0xFFFFFFFF = to end", wavSpec{dataSize: 0xFFFFFFFF, data: le16(1, 2, 3)},
+			"PCM", 16, [][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}}, 0},
+		{"data size 0 = to end", wavSpec{dataSize: 0, data: le16(1, 2, 3)},
+			"PCM", 16, [][]float32{{1.0 / 32768, 2.0 / 32768, 3.0 / 32768}}, 0},
+		{"8 kHz", wavSpec{rate: 8000, dataSize: -1, data: le16(1)}, "PCM", 16, [][]float32{{1.0 / 32768}}, 0},
+		{"192 kHz", wavSpec{rate: 192000, dataSize: -1, data: le16(1)}, "PCM", 16, [][]float32{{1.0 / 32768}}, 0},
+		{"9 channels", wavSpec{channels: 9, dataSize: -1, data: le16(1, 2, 3, 4, 5, 6, 7, 8, 9)}, "PCM", 16,
+			[][]float32{{1. / 32768}, {2. / 32768}, {3. / 32768}, {4. / 32768}, {5. / 32768}, {6. / 32768}, {7. / 32768}, {8. / 32768}, {9. / 32768}}, 0},
 	}
 }
