@@ -13,43 +13,45 @@ import (
 // power, so that z_k = ln(P_k / floor_k) is the excess of bin k over the
 // local noise in nepers (4.34 dB each). A noise-only bin has P/floor ~ Exp(1).
 //
-// The salience of f0 is a weighted harmonic sum in the manner of
-// subharmonic summation (D. J. Hermes, "Measurement of pitch by subharmonic
-// summation", J. Acoust. Soc. Am. 83(1):257–264, 1988) and the harmonic sum
-// spectrum (A. M. Noll, 1969), restricted to the motor's own harmonic set:
+// The salience of f0 is a harmonic sum over the blade-pass comb, in the
+// manner of subharmonic summation (D. J. Hermes, "Measurement of pitch by
+// subharmonic summation", J. Acoust. Soc. Am. 83(1):257–264, 1988, whose
+// weights 0.84^(m−1) it takes) on whitened log magnitude:
 //
-//	S(f0) = Σ_{h ≥ 1, h·f0 ≤ Fcap} w_h · (v(h·f0) − c)
-//	v(f) = clamp(max(z_⌊f/Δ⌋, z_⌊f/Δ⌋+1), 0, zCap)
+//	S(f0) = Σ_{m=1..M} 0.84^(m−1) · (v(m·B·f0) − c)
+//	v(f)  = clamp(max(z_⌊f/Δ⌋, z_⌊f/Δ⌋+1), 0, zCap)
 //
-// with w_h = bladeWeight where h is a multiple of the blade count B (the
-// blade-pass line and its harmonics) and 1 elsewhere (the shaft line and the
-// shaft-order lines from imbalance and commutation). The sum runs over a
-// fixed band [0, Fcap] rather than a fixed number of harmonics, and an empty
-// harmonic costs c: a candidate an octave low (f0/2) then pays for the empty
-// half-integer positions, and a candidate an octave or a blade count high
-// (2·f0, B·f0) collects only every second (B-th) blade-pass line. Clamping at
-// zCap keeps one very strong line (a whine, a hum harmonic) from outweighing
-// a comb. Why these guard the octave and blade-count errors is worked out in
-// TestSalienceOctaveGuard, which also measures the margins.
+// with B the blade count. The blade-pass line and its harmonics are a
+// rotor's strongest lines and, unlike the shaft-order lines, are always
+// there, so the search follows them and the blade count given fixes the
+// shaft frequency (f0 = blade-pass/B; no blade-count error is possible once
+// B is right). A fixed number M of harmonics with falling weights guards the
+// octave errors of the blade-pass comb: a candidate an octave low collects
+// only the lower half of the lines, at lower weights, and pays c for the
+// empty positions between them; a candidate an octave high misses the odd
+// harmonics, which include the strongest, first one. Clamping at zCap keeps
+// one very strong line (a whine, a hum harmonic) from outweighing a comb.
+// The shaft-order lines enter the refinement (tracker.go) and the comb
+// checks (tracker_checks.go), which warn when another blade count fits.
 const (
-	// floorBlock is the number of bins per noise-floor block.
+	// floorBlock is the largest number of bins in a noise-floor block.
 	floorBlock = 32
 	// floorQuantile is the quantile of P taken as the floor in each block,
 	// low so that a dense comb of lines does not lift it. For Exp(1) noise
 	// its value is −ln(1 − q), which floorScale undoes.
 	floorQuantile = 0.2
-	// zCap is the largest excess one harmonic contributes: 4.6 nepers = 20 dB.
-	zCap = 4.6
-	// emptyCost is c above: the expected v of a noise-only position (0.36
-	// nepers for the max of two neighbouring Hann bins, measured in
-	// TestWhitenNoiseStatistics) plus a margin that makes an empty position
-	// cost something.
-	emptyCost = 0.6
-	// bladeWeight is w_h at multiples of the blade count.
-	bladeWeight = 3
-	// salienceFcapHz bounds the band of the harmonic sum. Rotor lines
-	// above a few kHz are usually lost in broadband noise.
-	salienceFcapHz = 6000
+	// zCap is the largest excess one harmonic contributes: 6.9 nepers = 30 dB.
+	zCap = 6.9
+	// emptyCost is c above: about the expected v of a noise-only position
+	// (measured in TestWhitenNoiseStatistics), so that noise adds nothing
+	// on average and an empty position costs a little.
+	emptyCost = 0.45
+	// combHarmonics is M above; combDecay the weight ratio.
+	combHarmonics = 6
+	combDecay     = 0.84
+	// oddEvenSlack and oddEvenCost: see salience.
+	oddEvenSlack = 0.5
+	oddEvenCost  = 3
 )
 
 var floorScale = float32(1 / -math.Log(1-floorQuantile))
@@ -90,30 +92,29 @@ func newCandidateGrid(lo, hi, rel float64) []float64 {
 }
 
 // newCombTable builds the table for candidates f0 in a spectrum of bins
-// bins of width binHz. blades = 0 weights every harmonic alike.
-func newCombTable(f0 []float64, binHz float64, bins, blades int, fcapHz float64) *combTable {
+// bins of width binHz: harmonics at m·order·f0, m = 1..count, weights
+// combDecay^(m−1). Harmonics beyond the spectrum are left out.
+func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTable {
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
 		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0))}
 	if len(f0) > 1 {
 		t.logStep = math.Log(f0[1] / f0[0])
 	}
+	order = max(order, 1)
 	for k, f := range f0 {
 		t.start[k] = int32(len(t.bin))
 		var w2 float64
-		for h := 1; ; h++ {
-			x := float64(h) * f / binHz
-			b := int(x)
-			if float64(h)*f > fcapHz || b+1 >= bins {
+		w := 1.0
+		for m := 1; m <= count; m++ {
+			b := int(float64(m*order) * f / binHz)
+			if b+1 >= bins-1 {
 				break
 			}
-			w := float32(1)
-			if blades > 0 && h%blades == 0 {
-				w = bladeWeight
-			}
 			t.bin = append(t.bin, int32(b))
-			t.w = append(t.w, w)
-			w2 += float64(w) * float64(w)
-			t.wsum[k] += w
+			t.w = append(t.w, float32(w))
+			w2 += w * w
+			t.wsum[k] += float32(w)
+			w *= combDecay
 		}
 		t.thr[k] = float32(voiceZ * noiseSD * math.Sqrt(w2))
 	}
@@ -123,65 +124,119 @@ func newCombTable(f0 []float64, binHz float64, bins, blades int, fcapHz float64)
 
 // salience writes S(f0[k]) − thr[k] for k in [klo, khi) to dst[k−klo] from
 // the whitened frame z.
+//
+// A comb whose odd harmonics are on average weaker than its even ones by
+// more than oddEvenSlack is one whose true fundamental is half the
+// candidate's (every second line is a weaker line between the real ones,
+// as the shaft-order lines of a two-blade rotor sit between its blade-pass
+// lines): the candidate pays oddEvenCost for each neper of the excess. This
+// is the usual odd/even-harmonic check of pitch trackers against errors an
+// octave low.
 func (t *combTable) salience(dst, z []float32, klo, khi int) {
 	for k := klo; k < khi; k++ {
-		var s float32
+		var s, odd, even float32
+		var nOdd, nEven int
 		bins := t.bin[t.start[k]:t.start[k+1]]
 		ws := t.w[t.start[k]:t.start[k+1]]
 		for i, b := range bins {
 			v := max(z[b], z[b+1])
 			v = min(max(v, 0), zCap)
 			s += ws[i] * (v - emptyCost)
+			if i%2 == 0 {
+				odd += v
+				nOdd++
+			} else {
+				even += v
+				nEven++
+			}
+		}
+		if nEven > 0 {
+			if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
+				s -= oddEvenCost * d
+			}
 		}
 		dst[k-klo] = s - t.thr[k]
 	}
 }
 
 // whitener estimates a frame's noise floor; its scratch is reused.
+//
+// The floor blocks are narrow at low frequencies, where rotor and room
+// noise fall steeply, and widen in proportion to frequency above: block i
+// spans [e_i, e_{i+1}) with e_{i+1} = max(e_i + floorMinBlock,
+// ⌈e_i·floorGrowth⌉), capped at floorBlock bins.
 type whitener struct {
 	blk     []float32
+	edges   []int32   // block edges for the current length
+	centre  []float32 // block centres, bins
 	lnFloor []float32 // per block
 	lnP     []float32
 }
 
-// whiten writes z_k = ln(P_k/floor_k) to z and keeps ln P and the block
-// floors for later queries (snr). re, im and z have the same length.
+const (
+	floorMinBlock = 8
+	floorGrowth   = 1.25
+)
+
+func (w *whitener) layout(n int) {
+	if len(w.edges) > 0 && int(w.edges[len(w.edges)-1]) == n {
+		return
+	}
+	w.edges = w.edges[:0]
+	w.centre = w.centre[:0]
+	e := 0
+	for e < n {
+		next := min(n, max(e+floorMinBlock, min(e+floorBlock, int(math.Ceil(float64(e)*floorGrowth)))))
+		if n-next < floorMinBlock/2 {
+			next = n
+		}
+		w.edges = append(w.edges, int32(e))
+		w.centre = append(w.centre, float32(e+next)/2)
+		e = next
+	}
+	w.edges = append(w.edges, int32(n))
+	w.lnFloor = make([]float32, len(w.centre))
+	w.blk = make([]float32, floorBlock+floorMinBlock)
+}
+
+// whiten writes z_k = ln(P_k/floor_k) to z and keeps ln P. re, im and z
+// have the same length.
 func (w *whitener) whiten(z, re, im []float32) {
 	n := len(re)
-	nb := (n + floorBlock - 1) / floorBlock
-	if cap(w.lnFloor) < nb {
-		w.lnFloor = make([]float32, nb)
-		w.blk = make([]float32, floorBlock)
-	}
+	w.layout(n)
 	if cap(w.lnP) < n {
 		w.lnP = make([]float32, n)
 	}
-	w.lnFloor = w.lnFloor[:nb]
 	w.lnP = w.lnP[:n]
 	const tiny = 1e-30
 	for k := range re {
 		w.lnP[k] = float32(math.Log(float64(re[k]*re[k]+im[k]*im[k]) + tiny))
 	}
+	lnScale := float32(math.Log(float64(floorScale)))
+	nb := len(w.centre)
 	for b := 0; b < nb; b++ {
-		lo, hi := b*floorBlock, min(n, (b+1)*floorBlock)
+		lo, hi := int(w.edges[b]), int(w.edges[b+1])
 		blk := w.blk[:hi-lo]
 		copy(blk, w.lnP[lo:hi])
 		q := int(floorQuantile * float64(len(blk)))
-		w.lnFloor[b] = selectK(blk, q) + float32(math.Log(float64(floorScale)))
+		w.lnFloor[b] = selectK(blk, q) + lnScale
 	}
 	// Interpolate the block floors linearly (in log) between block centres.
+	b := 0
 	for k := range z {
-		x := (float32(k)+0.5)/float32(floorBlock) - 0.5
+		x := float32(k) + 0.5
+		for b+1 < nb && w.centre[b+1] < x {
+			b++
+		}
 		var f float32
 		switch {
-		case x <= 0 || nb == 1:
+		case x <= w.centre[0]:
 			f = w.lnFloor[0]
-		case x >= float32(nb-1):
+		case b+1 >= nb:
 			f = w.lnFloor[nb-1]
 		default:
-			i := int(x)
-			a := x - float32(i)
-			f = w.lnFloor[i]*(1-a) + w.lnFloor[i+1]*a
+			a := (x - w.centre[b]) / (w.centre[b+1] - w.centre[b])
+			f = w.lnFloor[b]*(1-a) + w.lnFloor[b+1]*a
 		}
 		z[k] = w.lnP[k] - f
 	}

@@ -217,7 +217,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	T := sc.NumFrames(len(tk.x))
 	bins := sc.Bins()
 	binHz := fs / float64(sc.FFTLen)
-	comb := newCombTable(tk.grid, binHz, bins, blades, min(salienceFcapHz, 0.45*fs))
+	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics)
 	sal := make([]float32, T*K)
 
 	var spec *dsp.Spectrogram
@@ -317,13 +317,13 @@ func (tk *tracker) searchTime(i int) float64 {
 
 // refineScratch is one worker's state in the refinement pass.
 type refineScratch struct {
-	wh       whitener
-	z        []float32
-	sal      []float32
-	est, sd  []float64
-	hs, ord  []int
-	prof     []float64 // comb level at q/profileDiv shaft orders
-	profN    []int
+	wh      whitener
+	z       []float32
+	sal     []float32
+	est, sd []float64
+	hs, ord []int
+	prof    []float64 // comb level at q/profileDiv shaft orders
+	profN   []int
 }
 
 // refine runs the refinement pass along the search path.
@@ -360,7 +360,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	nf := rc.NumFrames(len(tk.x))
 	bins := rc.Bins()
 	binHz := fs / float64(rc.FFTLen)
-	comb := newCombTable(tk.grid, binHz, bins, blades, min(salienceFcapHz, 0.45*fs))
+	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics)
 
 	tr := &Track{Blades: max(blades, 1), TimeS: make([]float64, nf), ShaftHz: make([]float64, nf),
 		SigmaHz: make([]float64, nf), Confidence: make([]float64, nf)}
@@ -602,4 +602,3 @@ func hannPowerKernel(n int, fs float64) ([]float64, float64) {
 	}
 	return k, dt
 }
-

@@ -102,3 +102,20 @@ func TestTrackExplore(t *testing.T) {
 			1e3*tr.KernelDtS*float64(len(tr.Kernel)-1), tr.Warnings)
 	}
 }
+
+func TestTrackDebug(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	want := map[int]bool{0: true, 5: true}
+	for c := 0; c < 20; c++ {
+		cs := synth.RandomScene(rng, nil)
+		if !want[c] {
+			continue
+		}
+		tr := renderAndTrack(t, cs.Scene, TrackConfig{Blades: cs.Truth.Blades})
+		t.Logf("%v", cs)
+		for i := 0; i < tr.Len(); i += 25 {
+			tt := tr.TimeS[i]
+			t.Logf("%7.3f truth %7.2f track %7.2f sd %.3f conf %.2f", tt, cs.Truth.Shaft(tt), tr.ShaftHz[i], tr.SigmaHz[i], tr.Confidence[i])
+		}
+	}
+}
