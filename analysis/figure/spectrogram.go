@@ -11,11 +11,14 @@ import (
 )
 
 // View is the visible part of a spectrogram and its colour scale: times in
-// seconds, frequencies in Hz, levels in dB (see MagRef for the reference).
+// seconds, frequencies in Hz, levels in dB relative to RefMag.
 type View struct {
 	T0, T1     float64
 	F0, F1     float64
 	DBLo, DBHi float64
+	// RefMag is the magnitude of 0 dB; 0 means MagRef(s). DefaultView
+	// fills it, so that rendering need not recompute the window.
+	RefMag float64
 }
 
 // Valid reports whether the view spans a positive time, frequency and level
@@ -26,11 +29,11 @@ func (v View) Valid() bool {
 }
 
 // MagRef is the magnitude taken as 0 dB: the STFT peak magnitude of a
-// full-scale sine (amplitude 1) seen through a Hann window of the
-// spectrogram's frame length, FrameLen/2 × the window's coherent gain 0.5
-// (Harris 1978, Table 1) = FrameLen/4. Levels are therefore close to dB
-// relative to full scale for the tonal lines.
-func MagRef(s *dsp.Spectrogram) float64 { return float64(s.FrameLen) / 4 }
+// full-scale sine (amplitude 1) through the spectrogram's window,
+// FrameLen/2 × the window's coherent gain (dsp.Spectrogram.FullScaleMag;
+// FrameLen/4 for Hann, Harris 1978). Levels are therefore dB relative to
+// full scale (dBFS) for tonal lines.
+func MagRef(s *dsp.Spectrogram) float64 { return s.FullScaleMag() }
 
 // DB converts an STFT magnitude of s to decibels: 20·log10(mag/MagRef(s)).
 func DB(s *dsp.Spectrogram, mag float64) float64 { return 20 * math.Log10(mag/MagRef(s)) }
@@ -59,7 +62,10 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 	// Magnitude thresholds for the 255 boundaries between colour entries,
 	// so that each pixel needs comparisons instead of a logarithm.
 	var thr [255]float32
-	ref := MagRef(s)
+	ref := v.RefMag
+	if !(ref > 0) {
+		ref = MagRef(s)
+	}
 	for i := range thr {
 		db := v.DBLo + (v.DBHi-v.DBLo)*(float64(i)+0.5)/255
 		thr[i] = float32(ref * math.Pow(10, db/20))
@@ -171,7 +177,7 @@ const (
 func DefaultView(s *dsp.Spectrogram, blades int, track *analysis.Track) View {
 	var v View
 	if s == nil || s.Frames == 0 || s.Bins == 0 {
-		return View{T0: 0, T1: 1, F0: 0, F1: viewFallbackHz, DBLo: -100, DBHi: 0}
+		return View{T0: 0, T1: 1, F0: 0, F1: viewFallbackHz, DBLo: -100, DBHi: 0, RefMag: 1}
 	}
 	dt := float64(s.Hop) / s.SampleRate
 	v.T0 = s.FrameTimeS(0) - dt/2
@@ -195,13 +201,14 @@ func DefaultView(s *dsp.Spectrogram, blades int, track *analysis.Track) View {
 			v.F1 = min(nyq, viewHeadroom*analysis.BladePassHz(top, blades))
 		}
 	}
-	v.DBLo, v.DBHi = levelRange(s, v.F1)
+	v.RefMag = MagRef(s)
+	v.DBLo, v.DBHi = levelRange(s, v.F1, v.RefMag)
 	return v
 }
 
 // levelRange returns the dB levels at the view percentiles of the cells
 // from 0 to fTop Hz.
-func levelRange(s *dsp.Spectrogram, fTop float64) (lo, hi float64) {
+func levelRange(s *dsp.Spectrogram, fTop, ref float64) (lo, hi float64) {
 	kTop := min(s.Bins, int(fTop/s.BinHz(1))+1)
 	frStride := max(1, s.Frames*kTop/viewSampleCells)
 	vals := make([]float32, 0, (s.Frames/frStride+1)*kTop)
@@ -211,7 +218,7 @@ func levelRange(s *dsp.Spectrogram, fTop float64) (lo, hi float64) {
 	slices.Sort(vals)
 	q := func(p float64) float64 {
 		m := float64(vals[int(p*float64(len(vals)-1))])
-		return DB(s, max(m, 1e-12))
+		return 20 * math.Log10(max(m, 1e-12)/ref)
 	}
 	lo, hi = q(viewPctLo), q(viewPctHi)
 	if hi-lo < viewMinRangeDB {

@@ -30,7 +30,7 @@ func lineSpectrogram(frames, bins, lineBin int) *dsp.Spectrogram {
 func TestRenderSpectrogramLine(t *testing.T) {
 	s := lineSpectrogram(400, 1025, 100) // bin 100 = 2343.75 Hz
 	lineHz := s.BinHz(100)
-	v := View{T0: s.FrameTimeS(0), T1: s.FrameTimeS(399), F0: 0, F1: 4000, DBLo: -80, DBHi: 0}
+	v := View{T0: s.FrameTimeS(0), T1: s.FrameTimeS(399), F0: 0, F1: 4000, DBLo: -80, DBHi: 0, RefMag: MagRef(s)}
 	dst := image.NewRGBA(image.Rect(0, 0, 300, 200))
 	RenderSpectrogram(dst, s, v)
 	// The row whose frequency band holds the line shows the top colour.
@@ -59,7 +59,7 @@ func TestRenderSpectrogramLine(t *testing.T) {
 // A zoomed-out view keeps a one-bin line (max over the pixel's cells).
 func TestRenderSpectrogramZoomedOut(t *testing.T) {
 	s := lineSpectrogram(2000, 1025, 700)
-	v := View{T0: 0, T1: s.FrameTimeS(1999), F0: 0, F1: 24000, DBLo: -80, DBHi: 0}
+	v := View{T0: 0, T1: s.FrameTimeS(1999), F0: 0, F1: 24000, DBLo: -80, DBHi: 0, RefMag: MagRef(s)}
 	dst := image.NewRGBA(image.Rect(0, 0, 100, 100)) // ~10 bins per row
 	RenderSpectrogram(dst, s, v)
 	hot := 0
