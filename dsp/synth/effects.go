@@ -234,3 +234,58 @@ func agc(x []float64, timeS, target, maxGain, fs float64) {
 		x[i] = v * g
 	}
 }
+
+// Resonance is a structural resonance of the bench or frame: a peaking
+// filter of gain GainDB at Hz with quality Q, applied to the rotor's sound.
+// A line passing through it during a step swells and fades.
+type Resonance struct {
+	Hz, Q, GainDB float64
+}
+
+// peakingSection returns the audio-EQ-cookbook peaking filter.
+func peakingSection(fcHz, q, gainDB, fs float64) biquad {
+	w := 2 * math.Pi * fcHz / fs
+	alpha := math.Sin(w) / (2 * q)
+	a := math.Pow(10, gainDB/40)
+	cw := math.Cos(w)
+	a0 := 1 + alpha/a
+	return biquad{
+		b0: (1 + alpha*a) / a0,
+		b1: -2 * cw / a0,
+		b2: (1 - alpha*a) / a0,
+		a1: -2 * cw / a0,
+		a2: (1 - alpha/a) / a0,
+	}
+}
+
+// lowPassSection returns the audio-EQ-cookbook second-order low-pass.
+func lowPassSection(fcHz, q, fs float64) biquad {
+	w := 2 * math.Pi * fcHz / fs
+	alpha := math.Sin(w) / (2 * q)
+	cw := math.Cos(w)
+	a0 := 1 + alpha
+	return biquad{
+		b0: (1 - cw) / 2 / a0,
+		b1: (1 - cw) / a0,
+		b2: (1 - cw) / 2 / a0,
+		a1: -2 * cw / a0,
+		a2: (1 - alpha) / a0,
+	}
+}
+
+// bandPower returns the mean power of x below fcHz, measured through an
+// 8th-order Butterworth low-pass (its noise bandwidth exceeds fcHz by
+// 0.65 %, 0.03 dB, for a flat spectrum). fcHz ≥ fs/2 gives the full power.
+func bandPower(x []float64, fcHz, fs float64) float64 {
+	if fcHz <= 0 || fcHz >= 0.49*fs {
+		return meanPower(x)
+	}
+	y := append([]float64(nil), x...)
+	const order = 8
+	for k := range order / 2 {
+		// Butterworth pole pairs: Q = 1/(2 cos((2k+1)π/(2N))).
+		q := 1 / (2 * math.Cos(float64(2*k+1)*math.Pi/(2*order)))
+		lowPassSection(fcHz, q, fs).apply(y)
+	}
+	return meanPower(y)
+}

@@ -66,6 +66,13 @@ type RandomOptions struct {
 	// MaxDurationS bounds the recording's length (0 = no bound other than
 	// what the steps need).
 	MaxDurationS float64
+	// SNRBandHz is copied to every scene (see Scene.SNRBandHz; 0 = full
+	// band).
+	SNRBandHz float64
+	// Compressed is the probability that Case.Format is a compressed format
+	// (FLAC, MP3, M4A, Ogg Vorbis) rather than WAV; encoding those needs
+	// ffmpeg (WriteFile).
+	Compressed float64
 }
 
 // DefaultRandomOptions returns the ranges of whirlfit's held-out benchmark:
@@ -91,6 +98,7 @@ func DefaultRandomOptions() *RandomOptions {
 		Standstill:    0.15,
 		Ramp:          0.15,
 		Stereo:        0.3,
+		Compressed:    0.25,
 	}
 }
 
@@ -98,8 +106,11 @@ func DefaultRandomOptions() *RandomOptions {
 type Case struct {
 	Scene Scene
 	Truth Truth
-	// Bits is a suggested file coding for the case (PCM16, PCM24 or Float32).
-	Bits int
+	// Format is a suggested file format for the case (see WriteFile), and
+	// Bits the WriteWAV coding of a WAV format (16 for compressed formats,
+	// as a fallback when ffmpeg is missing).
+	Format Format
+	Bits   int
 	// Trigger, when not nil, is a command channel to render with
 	// RenderStereo.
 	Trigger *Trigger
@@ -137,7 +148,7 @@ func (c Case) String() string {
 		}
 		fmt.Fprintf(&b, "%.3fs %.0f→%.0fHz τ=%.1fms θ=%.1fms", s.CommandS, s.FromHz, s.TargetHz, 1e3*s.TauS, 1e3*s.DeadS)
 	}
-	fmt.Fprintf(&b, "] bits=%d", c.Bits)
+	fmt.Fprintf(&b, "] %s", c.Format)
 	if c.Trigger != nil {
 		b.WriteString(" +trigger")
 	}
@@ -170,6 +181,12 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 	if on() {
 		rotor.JitterRel = 0.0005 + 0.0015*rng.Float64()
 		imp = append(imp, fmt.Sprintf("jitter%.2f%%", 100*rotor.JitterRel))
+	}
+	if rotor.PolePairs > 0 && on() {
+		// Speed-controller switching noise, within the recorded band.
+		rotor.PWMHz = Range{4000, math.Min(24000, 0.42*float64(fs))}.drawLog(rng)
+		rotor.PWMLevel = Range{0.02, 0.3}.drawLog(rng)
+		imp = append(imp, fmt.Sprintf("pwm%.0fHz", rotor.PWMHz))
 	}
 
 	// Levels and steps.
@@ -264,6 +281,7 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		Rotor:      rotor,
 		SNRdB:      o.SNRdB.draw(rng),
 		NoiseColor: NoiseColor(rng.IntN(3)),
+		SNRBandHz:  o.SNRBandHz,
 		PeakLevel:  0.3 + 0.6*rng.Float64(),
 		Seed:       rng.Uint64(),
 	}
@@ -293,15 +311,20 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		imp = append(imp, fmt.Sprintf("tone%.0fHz/%.0fdB", sc.ToneHz, sc.ToneDB))
 	}
 	if on() {
-		b := 2 + rng.IntN(3)
-		f0 := Range{60, 600}.drawLog(rng)
-		m := Machine{
-			Rotor:   randomRotor(rng, b),
-			Shaft:   Ramp(0, t, f0, f0*(1+0.1*(rng.Float64()-0.5))),
-			LevelDB: -20 + 20*rng.Float64(),
-		}
+		m, name := randomMachine(rng, t, lo, hi, blades)
 		sc.Others = append(sc.Others, m)
-		imp = append(imp, fmt.Sprintf("other%dx%.0fHz/%.0fdB", b, f0, m.LevelDB))
+		imp = append(imp, name)
+	}
+	if on() {
+		// One to three structural resonances of the bench or frame.
+		for range 1 + rng.IntN(3) {
+			sc.Resonances = append(sc.Resonances, Resonance{
+				Hz:     Range{150, math.Min(6000, 0.4*float64(fs))}.drawLog(rng),
+				Q:      Range{3, 30}.drawLog(rng),
+				GainDB: 3 + 12*rng.Float64(),
+			})
+		}
+		imp = append(imp, fmt.Sprintf("resonance%d", len(sc.Resonances)))
 	}
 	if on() {
 		sc.ClipLevel = 0.3 + 0.6*rng.Float64()
@@ -322,7 +345,13 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 			Ramps:       ramps,
 			Impairments: imp,
 		},
-		Bits: []int{PCM16, PCM24, Float32}[rng.IntN(3)],
+	}
+	if rng.Float64() < o.Compressed {
+		c.Format = []Format{FLAC, MP3, M4A, OGG}[rng.IntN(4)]
+		c.Bits = PCM16
+	} else {
+		c.Format = []Format{WAV16, WAV24, WAVFloat}[rng.IntN(3)]
+		c.Bits = c.Format.Bits()
 	}
 	if rng.Float64() < o.Stereo {
 		tg := &Trigger{Kind: TriggerKind(rng.IntN(2))}
@@ -335,6 +364,46 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		c.Trigger = tg
 	}
 	return c
+}
+
+// randomMachine draws another machine in the room for a recording of
+// length durS: a fan (5–9 blades, slow), a pump or compressor (a
+// harmonic-rich low shaft line), a small rotor at an unrelated speed, or a
+// twin of the main rotor (same blade count, speed within the main range,
+// weaker) — the hardest, as its lines resemble the ones tracked.
+func randomMachine(rng *rand.Rand, durS, lo, hi float64, blades int) (Machine, string) {
+	var m Machine
+	var name string
+	drift := 1 + 0.06*(rng.Float64()-0.5)
+	switch rng.IntN(4) {
+	case 0:
+		m.Rotor = randomRotor(rng, 5+rng.IntN(5))
+		f0 := Range{12, 40}.drawLog(rng)
+		m.Shaft = Ramp(0, durS, f0, f0*drift)
+		m.LevelDB = -15 + 15*rng.Float64()
+		name = fmt.Sprintf("fan%dx%.0fHz", m.Rotor.Blades, f0)
+	case 1:
+		m.Rotor = randomRotor(rng, 1)
+		m.Rotor.BladeHarmonics = 8 + rng.IntN(8)
+		m.Rotor.BladeRolloff = 0.3 + 0.5*rng.Float64()
+		f0 := Range{20, 60}.drawLog(rng)
+		m.Shaft = Constant(f0)
+		m.LevelDB = -15 + 15*rng.Float64()
+		name = fmt.Sprintf("pump%.0fHz", f0)
+	case 2:
+		m.Rotor = randomRotor(rng, 2+rng.IntN(3))
+		f0 := Range{60, 600}.drawLog(rng)
+		m.Shaft = Ramp(0, durS, f0, f0*drift)
+		m.LevelDB = -20 + 20*rng.Float64()
+		name = fmt.Sprintf("rotor%dx%.0fHz", m.Rotor.Blades, f0)
+	default:
+		m.Rotor = randomRotor(rng, blades)
+		f0 := lo + (hi-lo)*rng.Float64()
+		m.Shaft = Ramp(0, durS, f0, f0*drift)
+		m.LevelDB = -12 + 6*rng.Float64()
+		name = fmt.Sprintf("twin%dx%.0fHz", blades, f0)
+	}
+	return m, fmt.Sprintf("%s/%.0fdB", name, m.LevelDB)
 }
 
 // randomRotor draws a rotor's relative levels: engineering judgement of the

@@ -70,9 +70,10 @@ func TestRandomSceneRanges(t *testing.T) {
 		if c.Trigger != nil {
 			counts["trigger"]++
 		}
+		counts[string(c.Format)]++
 	}
 	t.Logf("draw counts over 300 cases: %v", counts)
-	for _, key := range []string{"fs16000", "fs44100", "fs48000", "B2", "B5", "standstill", "ramp", "clip", "agc", "reverb", "hum", "tone", "other", "highpass", "rotornoise", "jitter", "white", "pink", "brown", "trigger"} {
+	for _, key := range []string{"fs16000", "fs44100", "fs48000", "B2", "B5", "standstill", "ramp", "clip", "agc", "reverb", "hum", "tone", "fan", "pump", "rotor", "twin", "pwm", "resonance", "highpass", "rotornoise", "jitter", "white", "pink", "brown", "trigger", "wav16", "wav24", "wavf32", "flac", "mp3", "m4a", "ogg"} {
 		if counts[key] == 0 {
 			t.Errorf("no case with %s", key)
 		}
@@ -138,7 +139,8 @@ func TestRandomSceneClean(t *testing.T) {
 		sc := c.Scene
 		if sc.HighPassHz != 0 || sc.ReverbS != 0 || sc.HumHz != 0 || sc.ToneHz != 0 || len(sc.Others) != 0 ||
 			sc.ClipLevel != 0 || sc.AGCS != 0 || sc.RotorNoiseShare != 0 || sc.Rotor.JitterRel != 0 ||
-			c.Trigger != nil || c.Truth.Standstill || len(c.Truth.Ramps) != 0 {
+			c.Trigger != nil || c.Truth.Standstill || len(c.Truth.Ramps) != 0 ||
+			len(sc.Resonances) != 0 || sc.Rotor.PWMHz != 0 {
 			t.Fatalf("impairment on in a clean case: %s", c)
 		}
 	}

@@ -3,6 +3,7 @@ package synth
 import (
 	"math"
 	"math/rand/v2"
+	"sort"
 )
 
 // Rotor describes the tonal sound of one motor and propeller. Levels are
@@ -30,6 +31,14 @@ type Rotor struct {
 	// PolePairs = 0 or WhineLevel = 0 renders no whine.
 	PolePairs  int
 	WhineLevel float64
+	// PWMHz, when > 0 with PolePairs > 0, adds switching noise of the speed
+	// controller: a carrier at PWMHz with sidebands at PWMHz ± k·PolePairs·f
+	// for k = 1, 2, amplitudes PWMLevel, PWMLevel/2, PWMLevel/4, all scaled
+	// by the square root of the amplitude law (the motor current grows more
+	// slowly than the thrust) — engineering judgement. The sidebands move
+	// with the speed but are not harmonics of it: a test for trackers.
+	PWMHz    float64
+	PWMLevel float64
 	// RefHz is the shaft frequency at which the levels hold (0 means 300 Hz).
 	RefHz float64
 	// LevelExponent is the exponent of the amplitude law (0 means 2).
@@ -178,51 +187,124 @@ func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand) roto
 		am = make([]float64, n)
 		lowpassNoise(am, rate, fs, rng)
 	}
-	freq := func(k int) float64 { // frequency at time k·dt/2
+	raw := func(k int) float64 { // trajectory at time k·dt/2, ≥ 0
 		f := tr(float64(k) * dt / 2)
 		if !(f > 0) { // also catches NaN
 			return 0
 		}
+		return f
+	}
+	freq := func(k int) float64 { // rendered frequency at time k·dt/2
+		f := raw(k)
 		if jit != nil {
 			f *= jit[k]
 		}
 		return f
 	}
+	// Lines in ascending order with their phase offsets as unit phasors:
+	// harmonic h is Im(z^h · e^{i2πp}) with z = e^{i2πφ}, z^h formed by
+	// repeated multiplication (relative error about h·1e-16, far below
+	// the 1e-7 the tests allow).
+	sort.Slice(lines, func(i, j int) bool { return lines[i].H < lines[j].H })
+	maxH := 0
+	if len(lines) > 0 {
+		maxH = lines[len(lines)-1].H
+	}
+	bi := max(r.Blades, 1)
+	maxH = max(maxH, bi)
+	pwm := r.PWMHz > 0 && r.PWMLevel != 0 && r.PolePairs > 0
+	var pwmK [2]int // shaft orders of the first and second sideband offsets
+	var pwmZ [2][2]float64
+	if pwm {
+		pwmK = [2]int{r.PolePairs, 2 * r.PolePairs}
+		maxH = max(maxH, pwmK[1])
+	}
+	type rot struct {
+		h           int
+		amp, cr, ci float64
+	}
+	rl := make([]rot, len(lines))
+	for i, l := range lines {
+		sn, cs := math.Sincos(2 * math.Pi * l.PhaseC)
+		rl[i] = rot{l.H, l.Amp, cs, sn}
+	}
 	ref, ex := r.refHz(), r.exponent()
-	b := float64(max(r.Blades, 1))
 	nyq := fs / 2
 	fadeLo, fadeHi := 0.84*nyq, 0.96*nyq // lines fade out below Nyquist
 	phase := 0.0                         // shaft phase in cycles, wrapped to [0, 1)
+	f0r := raw(0)
 	f0 := freq(0)
 	for i := range n {
 		f := f0
-		out.running[i] = tr(float64(i)*dt) > 0
+		out.running[i] = f0r > 0
 		if f > 0 {
-			law := math.Pow(f/ref, ex)
+			var law float64
+			if ex == 2 {
+				law = (f / ref) * (f / ref)
+			} else {
+				law = math.Pow(f/ref, ex)
+			}
 			if am != nil {
 				law *= 1 + r.AMDepth*am[i]
 			}
-			var s float64
-			for _, l := range lines {
-				hf := float64(l.H) * f
-				if hf >= fadeHi {
-					continue
+			zi, zr := math.Sincos(2 * math.Pi * phase)
+			pr, pi := 1.0, 0.0 // z^h
+			var s, bladeCos float64
+			k := 0
+			for h := 1; h <= maxH; h++ {
+				pr, pi = pr*zr-pi*zi, pr*zi+pi*zr
+				if h == bi {
+					bladeCos = pr
 				}
-				a := l.Amp
-				if hf > fadeLo {
-					a *= (fadeHi - hf) / (fadeHi - fadeLo)
+				if pwm && h == pwmK[0] {
+					pwmZ[0] = [2]float64{pr, pi}
 				}
-				x := float64(l.H)*phase + l.PhaseC
-				s += a * math.Sin(2*math.Pi*(x-math.Floor(x)))
+				if pwm && h == pwmK[1] {
+					pwmZ[1] = [2]float64{pr, pi}
+				}
+				for ; k < len(rl) && rl[k].h == h; k++ {
+					hf := float64(h) * f
+					if hf >= fadeHi {
+						continue
+					}
+					a := rl[k].amp
+					if hf > fadeLo {
+						a *= (fadeHi - hf) / (fadeHi - fadeLo)
+					}
+					s += a * (pr*rl[k].ci + pi*rl[k].cr)
+				}
 			}
 			out.tonal[i] = law * s
-			out.drive[i] = law * (1 + 0.3*math.Cos(2*math.Pi*b*phase))
+			if pwm {
+				x := r.PWMHz * float64(i) / fs
+				ci, cr := math.Sincos(2 * math.Pi * (x - math.Floor(x)))
+				fe := float64(r.PolePairs) * f
+				sq := math.Sqrt(law)
+				if r.PWMHz < fadeHi {
+					out.tonal[i] += sq * r.PWMLevel * ci
+				}
+				for k, amp := range [2]float64{r.PWMLevel / 2, r.PWMLevel / 4} {
+					zr, zi := pwmZ[k][0], pwmZ[k][1]
+					off := float64(k+1) * fe
+					if hi := r.PWMHz + off; hi < fadeHi {
+						out.tonal[i] += sq * amp * (cr*zi + ci*zr) // Im(c·z^kP)
+					}
+					if lo := r.PWMHz - off; lo > 0 && lo < fadeHi {
+						out.tonal[i] += sq * amp * (ci*zr - cr*zi) // Im(c·conj(z^kP))
+					}
+				}
+			}
+			out.drive[i] = law * (1 + 0.3*bladeCos)
 		}
 		// Simpson's rule over [i·dt, (i+1)·dt].
-		fm, f1 := freq(2*i+1), freq(2*i+2)
+		fm, f1r := freq(2*i+1), raw(2*i+2)
+		f1 := f1r
+		if jit != nil {
+			f1 *= jit[2*i+2]
+		}
 		phase += dt / 6 * (f + 4*fm + f1)
 		phase -= math.Floor(phase)
-		f0 = f1
+		f0, f0r = f1, f1r
 	}
 	return out
 }

@@ -36,7 +36,8 @@ type Machine struct {
 // of the high-passed tonal sound over the samples where the rotor runs
 // (Shaft(t) > 0) and P_w is the mean power of the high-passed broadband
 // noise over the whole recording; both are taken over the full band 0–fs/2
-// before reverberation, clipping and AGC. Interference is not counted as
+// (or, for P_w, below SNRBandHz when it is set) before reverberation,
+// clipping and AGC. Interference is not counted as
 // noise. SNRdB = +Inf renders no broadband noise.
 type Scene struct {
 	// SampleRate in Hz; DurationS the length in seconds.
@@ -46,9 +47,16 @@ type Scene struct {
 	Shaft Trajectory
 	Rotor Rotor
 
-	SNRdB           float64
+	SNRdB float64
+	// SNRBandHz, when > 0, restricts the noise power P_w of the SNR to
+	// frequencies below it (an analysed band), so a given SNR puts more
+	// noise where the lines are; 0 means the full band 0–fs/2.
+	SNRBandHz       float64
 	NoiseColor      NoiseColor
 	RotorNoiseShare float64 // 0–1
+	// Resonances of the bench or frame shape the rotor's tonal and
+	// broadband sound (before the SNR is set).
+	Resonances []Resonance
 
 	// HighPassHz is a phone-like microphone high-pass (Butterworth of
 	// HighPassOrder 2 or 4; 0 means 2). 0 Hz = no filter.
@@ -179,6 +187,7 @@ func render(sc Scene) (*parts, error) {
 	fs := float64(sc.SampleRate)
 	rr := renderRotor(sc.Rotor, sc.Shaft, n, fs, sc.rng(streamRotor))
 	p := &parts{tonal: rr.tonal, running: rr.running}
+	resonate(rr.tonal, sc.Resonances, fs)
 
 	// Rotor tonal power over running samples, at the source (before the
 	// high-pass) for setting interference levels.
@@ -224,6 +233,7 @@ func render(sc Scene) (*parts, error) {
 			for i := range rn {
 				rn[i] *= rr.drive[i]
 			}
+			resonate(rn, sc.Resonances, fs)
 			normaliseRMS(rn)
 			a, b := math.Sqrt(1-sc.RotorNoiseShare), math.Sqrt(sc.RotorNoiseShare)
 			for i := range p.noise {
@@ -244,7 +254,7 @@ func render(sc Scene) (*parts, error) {
 		if ptHP == 0 {
 			ptHP = pt
 		}
-		pw := meanPower(p.noise)
+		pw := bandPower(p.noise, sc.SNRBandHz, fs)
 		if pw > 0 {
 			scale(p.noise, math.Sqrt(ptHP/dB(sc.SNRdB)/pw))
 		}
@@ -286,6 +296,15 @@ func render(sc Scene) (*parts, error) {
 	scale(mix, level/peakAbs(mix))
 	p.mix = mix
 	return p, nil
+}
+
+// resonate applies the resonances in place.
+func resonate(x []float64, rs []Resonance, fs float64) {
+	for _, r := range rs {
+		if r.Hz > 0 && r.Hz < 0.45*fs && r.Q > 0 {
+			peakingSection(r.Hz, r.Q, r.GainDB, fs).apply(x)
+		}
+	}
 }
 
 func dB(x float64) float64 { return math.Pow(10, x/10) }
