@@ -47,8 +47,10 @@ type corrCov struct {
 // corrCovariance computes the correlated-error covariance of the free
 // parameters. idx holds each residual's index on the uniform frame grid
 // (gaps allowed); maxLag is the lag in frames beyond which errors are taken
-// as uncorrelated (the taper runs from maxLag/2 to maxLag).
-func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int) (*corrCov, error) {
+// as uncorrelated (the taper runs from maxLag/2 to maxLag). floor, when
+// given, is a lower bound on ρ_k per lag: the correlation that overlapping
+// analysis windows impose by themselves (kernelAutocorr).
+func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor []float64) (*corrCov, error) {
 	n, np := J.Dims()
 	if n <= np+1 {
 		return nil, errors.New("analysis: too few samples for an interval")
@@ -92,12 +94,27 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int) (*corr
 	}
 	rho := make([]float64, maxLag+1)
 	half := float64(maxLag) / 2
+	cut := false
 	for k := range rho {
 		taper := 1.0
 		if float64(k) > half {
 			taper = (float64(maxLag) + 1 - float64(k)) / (float64(maxLag) + 1 - half)
 		}
-		rho[k] = gamma[k] / gamma[0] * taper
+		r := gamma[k] / gamma[0]
+		// Past the first non-positive value the estimates are mostly the
+		// fit's own imprint (residuals of a fitted curve swing negative);
+		// keep only the initial positive sequence (as in Geyer's
+		// initial-sequence estimators of a long-run variance; from memory).
+		if r <= 0 {
+			cut = true
+		}
+		if cut {
+			r = 0
+		}
+		if floor != nil && k < len(floor) {
+			r = math.Max(r, floor[k])
+		}
+		rho[k] = r * taper
 	}
 	// M = JᵀRJ with R_ij = ρ_|idx_i − idx_j|.
 	M := mat.NewSymDense(np, nil)
@@ -166,4 +183,36 @@ func absInt(k int) int {
 		return -k
 	}
 	return k
+}
+
+// kernelAutocorr returns the autocorrelation of a track's smoothing kernel
+// at lags of 0..maxLag hops: the correlation of two samples' errors when
+// each is the kernel-weighted average of white noise, i.e. what the overlap
+// of analysis windows alone makes. Nil without a kernel.
+func kernelAutocorr(k []float64, dt, hop float64, maxLag int) []float64 {
+	if len(k) == 0 || !(dt > 0) || !(hop > 0) {
+		return nil
+	}
+	k2 := 0.0
+	for _, v := range k {
+		k2 += v * v
+	}
+	if !(k2 > 0) {
+		return nil
+	}
+	out := make([]float64, maxLag+1)
+	for lag := range out {
+		x := float64(lag) * hop / dt
+		m := int(x)
+		f := x - float64(m)
+		a, b := 0.0, 0.0
+		for j := 0; j+m < len(k); j++ {
+			a += k[j] * k[j+m]
+			if j+m+1 < len(k) {
+				b += k[j] * k[j+m+1]
+			}
+		}
+		out[lag] = ((1-f)*a + f*b) / k2
+	}
+	return out
 }

@@ -96,7 +96,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 
 	free := fit.free
 	maxLag := int(math.Ceil(1.5*k.spanS()/hop)) + 2
-	cc, err := corrCovariance(fit.J, fit.resid, d.idx, maxLag)
+	cc, err := corrCovariance(fit.J, fit.resid, d.idx, maxLag, kernelAutocorr(tr.Kernel, tr.KernelDtS, hop, maxLag))
 	if err != nil {
 		return nil, err
 	}

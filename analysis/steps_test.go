@@ -1,0 +1,117 @@
+package analysis
+
+import (
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+)
+
+// Step detection on invented tracks (stepfit_synth_test.go).
+
+func TestDetectSteps(t *testing.T) {
+	type want struct {
+		onsetS float64
+		dir    Direction
+		tauS   float64
+	}
+	cases := []struct {
+		name  string
+		spec  synthTrackSpec
+		ramps [][3]float64 // start s, end s, to Hz: a linear ramp added on top
+		want  []want
+	}{
+		{
+			name: "up and down, 0.25 s apart",
+			spec: synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 2.2, startHz: 300, noiseHz: 0.5,
+				steps: []synthStep{{commandS: 0.5, deadS: 0.01, tauS: 0.025, toHz: 380},
+					{commandS: 0.75, deadS: 0.01, tauS: 0.035, toHz: 320},
+					{commandS: 1.0, deadS: 0.01, tauS: 0.02, toHz: 420},
+					{commandS: 1.6, deadS: 0.01, tauS: 0.05, toHz: 260}}},
+			want: []want{{0.51, Up, 0.025}, {0.76, Down, 0.035}, {1.01, Up, 0.02}, {1.61, Down, 0.05}},
+		},
+		{
+			name: "fast step, wide window, dropout",
+			spec: synthTrackSpec{hopS: 0.005, windowS: 0.08, durS: 2, startHz: 250, noiseHz: 1,
+				steps:    []synthStep{{commandS: 0.8, deadS: 0.005, tauS: 0.006, toHz: 330}},
+				dropouts: [][2]float64{{0.3, 0.34}, {1.3, 1.35}}},
+			want: []want{{0.805, Up, 0.006}},
+		},
+		{
+			name: "noise only",
+			spec: synthTrackSpec{hopS: 0.004, windowS: 0.05, durS: 2, startHz: 400, noiseHz: 2},
+		},
+		{
+			name: "slow ramp is not a step",
+			spec: synthTrackSpec{hopS: 0.004, windowS: 0.05, durS: 3.5, startHz: 280, noiseHz: 0.3,
+				steps: []synthStep{{commandS: 2.8, deadS: 0.01, tauS: 0.03, toHz: 250}}},
+			ramps: [][3]float64{{0.5, 2.5, 120}},
+			want:  []want{{2.81, Down, 0.03}},
+		},
+		{
+			name: "start from standstill",
+			spec: synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.8, startHz: 300, noiseHz: 0.5, standstillUntilS: 0.3,
+				steps: []synthStep{{commandS: 0.2, deadS: 0.0, tauS: 0.08, toHz: 300}, {commandS: 1.2, deadS: 0.01, tauS: 0.03, toHz: 360}}},
+			want: []want{{0.2, Up, 0.08}, {1.21, Up, 0.03}},
+		},
+	}
+	for ci, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(uint64(ci), 99))
+			if c.spec.standstillUntilS > 0 {
+				// The motor spins up from 0 at the first command.
+				c.spec.startHz = 0
+			}
+			tr := c.spec.track(rng)
+			for _, r := range c.ramps {
+				for i, tt := range tr.TimeS {
+					switch {
+					case tt >= r[1]:
+						tr.ShaftHz[i] += r[2]
+					case tt > r[0]:
+						tr.ShaftHz[i] += r[2] * (tt - r[0]) / (r[1] - r[0])
+					}
+				}
+			}
+			res, warns := AnalyseSteps(tr, StepConfig{Bootstrap: -1})
+			for _, r := range res {
+				t.Logf("found %s step at %.4f s, τ %.4g s [%.4g, %.4g], rpm %.0f → %.0f, warnings %q",
+					r.Direction, r.ResponseStartS, r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1], r.RPMBefore.Value, r.RPMAfter.Value, r.Warnings)
+			}
+			t.Logf("file warnings: %q", warns)
+			if len(res) != len(c.want) {
+				t.Fatalf("found %d steps, want %d", len(res), len(c.want))
+			}
+			for i, w := range c.want {
+				r := res[i]
+				if r.Direction != w.dir {
+					t.Errorf("step %d: direction %s, want %s", i, r.Direction, w.dir)
+				}
+				if math.Abs(r.ResponseStartS-w.onsetS) > 0.01 {
+					t.Errorf("step %d: response start %.4f s, want %.4f ± 0.01", i, r.ResponseStartS, w.onsetS)
+				}
+				if math.Abs(r.TauS.Value/w.tauS-1) > 0.25 && !hasWarning(r.Warnings, "τ is poorly determined") {
+					t.Errorf("step %d: τ %.4g s, want %.4g ± 25 %% (or a warning that τ is poorly determined)", i, r.TauS.Value, w.tauS)
+				}
+				if w.tauS < r.TauS.CI95[0] || w.tauS > r.TauS.CI95[1] {
+					t.Logf("step %d: true τ %.4g s outside the 95 %% interval [%.4g, %.4g] (expected in 1 of 20)", i, w.tauS, r.TauS.CI95[0], r.TauS.CI95[1])
+				}
+				if r.DeadTimeS != nil || r.CommandS != nil {
+					t.Errorf("step %d: dead time reported without a command time", i)
+				}
+				if !hasWarning(r.Warnings, "dead time needs the command time") {
+					t.Errorf("step %d: warnings %q do not say that dead time needs the command time", i, r.Warnings)
+				}
+			}
+		})
+	}
+}
+
+func hasWarning(ws []string, part string) bool {
+	for _, w := range ws {
+		if strings.Contains(w, part) {
+			return true
+		}
+	}
+	return false
+}
