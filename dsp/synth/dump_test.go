@@ -66,20 +66,14 @@ func TestDumpCases(t *testing.T) {
 	rng := rand.New(rand.NewPCG(*dumpSeed, 0xd0))
 	for k := range *dumpN {
 		c := RandomScene(rng, nil)
-		var chs [][]float32
-		var err error
-		var trig *int
-		if c.Trigger != nil {
-			chs, err = RenderStereo(c.Scene, *c.Trigger)
-			one := 1
-			trig = &one
-		} else {
-			var m []float32
-			m, err = Render(c.Scene)
-			chs = [][]float32{m}
-		}
+		chs, err := c.Render()
 		if err != nil {
 			t.Fatal(err)
+		}
+		var trig *int
+		if c.Trigger != nil {
+			one := 1
+			trig = &one
 		}
 		f := c.Format
 		name := fmt.Sprintf("case%02d%s", k, f.Ext())

@@ -134,6 +134,25 @@ type Truth struct {
 	Impairments []string
 }
 
+// RPM returns the true shaft speed in revolutions per minute at tS.
+func (tr Truth) RPM(tS float64) float64 {
+	const secondsPerMinute = 60
+	return secondsPerMinute * tr.Shaft(tS)
+}
+
+// Render renders the case: one channel, or two when it has a trigger
+// (channel 1 is the command signal).
+func (c Case) Render() ([][]float32, error) {
+	if c.Trigger != nil {
+		return RenderStereo(c.Scene, *c.Trigger)
+	}
+	x, err := Render(c.Scene)
+	if err != nil {
+		return nil, err
+	}
+	return [][]float32{x}, nil
+}
+
 // RampTruth is a linear change of shaft frequency from FromHz at T0S to
 // ToHz at T1S.
 type RampTruth struct{ T0S, T1S, FromHz, ToHz float64 }
@@ -415,7 +434,7 @@ func randomRotor(rng *rand.Rand, blades int) Rotor {
 		BladeLevel:     1,
 		BladeRolloff:   0.5 + rng.Float64(),
 		ShaftHarmonics: 1 + rng.IntN(3),
-		ShaftLevel:     Range{0.05, 0.6}.drawLog(rng),
+		ShaftLevel:     Range{0.05, 1}.drawLog(rng),
 		RefHz:          300,
 		LevelExponent:  1.5 + rng.Float64(),
 		SpreadDB:       1 + 3*rng.Float64(),

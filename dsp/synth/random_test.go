@@ -102,15 +102,7 @@ func TestRandomSceneDeterministicAndRenders(t *testing.T) {
 			t.Fatalf("seed %d: cases differ:\n%s\n%s", seed, a, b)
 		}
 		t.Logf("seed %d: %s", seed, a)
-		var x [][]float32
-		var err error
-		if a.Trigger != nil {
-			x, err = RenderStereo(a.Scene, *a.Trigger)
-		} else {
-			var m []float32
-			m, err = Render(a.Scene)
-			x = [][]float32{m}
-		}
+		x, err := a.Render()
 		if err != nil {
 			t.Fatal(err)
 		}
