@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/exec"
 	"path/filepath"
 
 	"fyne.io/fyne/v2"
@@ -88,8 +89,24 @@ func runWindow(ctx context.Context, files []string, stderr io.Writer) int {
 		fyne.Do(func() { w.Close(); a.Quit() })
 	}()
 	if shots := os.Getenv(ui.ScreenshotEnv); shots != "" {
-		go ui.Screenshots(w, shots, a.Quit, stderr)
+		win.Resize(fyne.NewSize(1280, 800))
+		go ui.Screenshots(w, shots, grabScreen, a.Quit, stderr)
 	}
 	win.ShowAndRun()
 	return 0
+}
+
+// grabScreen writes the X display's screen to a PNG with ffmpeg's x11grab
+// (the GL canvas capture reads back blank under Xvfb's software renderer).
+func grabScreen(path string) error {
+	disp := os.Getenv("DISPLAY")
+	if disp == "" {
+		return fmt.Errorf("no DISPLAY to capture")
+	}
+	out, err := exec.Command("ffmpeg", "-loglevel", "error", "-y", "-f", "x11grab",
+		"-video_size", "1280x800", "-i", disp, "-frames:v", "1", path).CombinedOutput()
+	if err != nil {
+		return fmt.Errorf("ffmpeg x11grab: %v: %s", err, out)
+	}
+	return nil
 }

@@ -14,6 +14,7 @@ import (
 
 	"whirlfit/analysis"
 	"whirlfit/analysis/compare"
+	"whirlfit/analysis/figure"
 )
 
 // comparePanel is the Compare tab: recordings to add, remove and relabel,
@@ -33,6 +34,8 @@ type comparePanel struct {
 	cmp      *compare.Comparison
 	cells    [][]string
 	overlayI *overlayImage
+	stepSel  *widget.Select
+	step     figure.CompareStep
 }
 
 func newComparePanel(w *Window) *comparePanel {
@@ -60,6 +63,14 @@ func newComparePanel(w *Window) *comparePanel {
 			rm.OnTapped = func() { p.remove(id) }
 		})
 	p.overlayI = &overlayImage{}
+	p.stepSel = widget.NewSelect(nil, func(s string) {
+		var st figure.CompareStep
+		if _, err := fmt.Sscanf(s, "%s %d", &st.Direction, &st.Order); err == nil && st != p.step {
+			p.step = st
+			p.rebuild()
+		}
+	})
+	p.stepSel.PlaceHolder = "step to overlay"
 	p.overlay = canvas.NewRaster(p.overlayI.draw)
 	p.table = widget.NewTable(
 		func() (int, int) {
@@ -86,8 +97,12 @@ func newComparePanel(w *Window) *comparePanel {
 		container.NewVBox(widget.NewLabelWithStyle("Recordings (label, result)", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 			container.NewHBox(add, addCur)),
 		p.status, nil, nil, p.list)
-	right := container.NewVSplit(p.overlay,
-		container.NewBorder(container.NewBorder(nil, nil, nil, copyBtn, container.NewVScroll(p.verdict)), nil, nil, nil, p.table))
+	verdicts := container.NewVScroll(p.verdict)
+	verdicts.SetMinSize(fyne.NewSize(200, 90))
+	top := container.NewBorder(container.NewBorder(nil, nil, widget.NewLabel("Overlay of step"), nil, p.stepSel), nil, nil, nil, p.overlay)
+	bottom := container.NewBorder(container.NewBorder(nil, nil, nil, copyBtn, verdicts), nil, nil, nil, p.table)
+	right := container.NewVSplit(top, bottom)
+	right.Offset = 0.55
 	split := container.NewHSplit(left, right)
 	split.Offset = 0.3
 	p.content = split
@@ -244,7 +259,6 @@ func (p *comparePanel) rebuild() {
 		}
 	}
 	p.cmp, p.cells = nil, nil
-	p.overlayI.set(reps, labels)
 	if len(reps) < 2 {
 		p.verdict.SetText("Add two or more recordings to compare them.")
 	} else if c, err := compare.Compare(reps, labels); err != nil {
@@ -252,16 +266,27 @@ func (p *comparePanel) rebuild() {
 	} else {
 		p.cmp = c
 		p.cells = compareCells(c)
+		var opts []string
+		found := false
+		for _, r := range c.Rows {
+			opts = append(opts, fmt.Sprintf("%s %d", r.Direction, r.Order))
+			if r.Direction == p.step.Direction && r.Order == p.step.Order {
+				found = true
+			}
+		}
+		if !found && len(c.Rows) > 0 {
+			p.step = figure.CompareStep{Direction: c.Rows[0].Direction, Order: c.Rows[0].Order}
+		}
+		p.stepSel.SetOptions(opts)
+		p.stepSel.SetSelected(fmt.Sprintf("%s %d", p.step.Direction, p.step.Order))
 		if len(c.Verdicts) == 0 {
 			p.verdict.SetText("No step could be matched across the recordings.")
 		} else {
 			p.verdict.SetText(strings.Join(c.Verdicts, "\n"))
 		}
 	}
+	p.overlayI.set(reps, labels, p.step)
 	p.table.Refresh()
-	for col := range p.cells {
-		_ = col
-	}
 	if len(p.cells) > 0 {
 		p.table.SetColumnWidth(0, 170)
 		for c := 1; c < len(p.cells[0]); c++ {

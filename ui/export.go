@@ -35,6 +35,12 @@ var exportKinds = []exportKind{
 	{"Report (JSON)", ".json", func(w io.Writer, r *analysis.Report) error {
 		return export.WriteJSON(w, []*analysis.Report{r})
 	}},
+	{"Figure, spectrogram (PNG)", "-spectrogram.png", figureWriter(figSpectrogram, "png")},
+	{"Figure, spectrogram (SVG)", "-spectrogram.svg", figureWriter(figSpectrogram, "svg")},
+	{"Figure, spectrogram (PDF)", "-spectrogram.pdf", figureWriter(figSpectrogram, "pdf")},
+	{"Figure, rpm and fits (PNG)", "-rpm.png", figureWriter(figRPM, "png")},
+	{"Figure, rpm and fits (SVG)", "-rpm.svg", figureWriter(figRPM, "svg")},
+	{"Figure, rpm and fits (PDF)", "-rpm.pdf", figureWriter(figRPM, "pdf")},
 	{"Control-loop blocks (text)", "-blocks.txt", func(w io.Writer, r *analysis.Report) error {
 		m, err := control.Build(r, control.Config{})
 		if err != nil {

@@ -5,23 +5,26 @@ import (
 	"sync"
 
 	"whirlfit/analysis"
+	"whirlfit/analysis/figure"
 )
 
 // overlayImage draws the comparison's overlay of normalised step
-// responses at the size the raster asks for, re-rendering only when the
-// reports or the size change.
+// responses (the core's ComparePlot) at the size the raster asks for,
+// re-rendering only when the reports, the chosen step or the size change.
 type overlayImage struct {
 	mu     sync.Mutex
 	reps   []*analysis.Report
 	labels []string
+	step   figure.CompareStep
 	gen    int
 	img    *image.RGBA
 	key    [3]int
+	err    error
 }
 
-func (o *overlayImage) set(reps []*analysis.Report, labels []string) {
+func (o *overlayImage) set(reps []*analysis.Report, labels []string, step figure.CompareStep) {
 	o.mu.Lock()
-	o.reps, o.labels = reps, labels
+	o.reps, o.labels, o.step = reps, labels, step
 	o.gen++
 	o.mu.Unlock()
 }
@@ -34,6 +37,15 @@ func (o *overlayImage) draw(w, h int) image.Image {
 		return o.img
 	}
 	o.key = k
+	o.err = nil
+	if len(o.reps) > 0 {
+		p, err := figure.ComparePlotStep(o.reps, o.labels, o.step, figure.Options{})
+		if err == nil {
+			o.img = figure.RenderImage(p, w, h)
+			return o.img
+		}
+		o.err = err
+	}
 	o.img = image.NewRGBA(image.Rect(0, 0, w, h))
 	fillImage(o.img, toRGBA(themeBackground()))
 	return o.img

@@ -20,8 +20,8 @@ var resultColumns = []struct {
 	cell  func(n int, s *analysis.StepResult) string
 }{
 	{"#", 36, func(n int, s *analysis.StepResult) string { return strconv.Itoa(n) }},
-	{"dir", 44, func(n int, s *analysis.StepResult) string { return string(s.Direction) }},
-	{"command (s)", 96, func(n int, s *analysis.StepResult) string {
+	{"dir", 60, func(n int, s *analysis.StepResult) string { return string(s.Direction) }},
+	{"command (s)", 104, func(n int, s *analysis.StepResult) string {
 		if s.CommandS == nil {
 			return "—"
 		}

@@ -23,9 +23,10 @@ const ScreenshotEnv = "WHIRLFIT_SCREENSHOTS"
 const settle = 1500 * time.Millisecond
 
 // Screenshots drives the window through its views and writes one PNG per
-// view into dir, then calls quit. It runs on its own goroutine and reaches
-// the window only through fyne.DoAndWait.
-func Screenshots(w *Window, dir string, quit func(), log io.Writer) {
+// view into dir, then calls quit. capture writes the screen to a PNG file;
+// nil captures the window's canvas. It runs on its own goroutine and
+// reaches the window only through fyne.DoAndWait.
+func Screenshots(w *Window, dir string, capture func(path string) error, quit func(), log io.Writer) {
 	defer fyne.Do(quit)
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintln(log, "whirlfit:", err)
@@ -48,12 +49,16 @@ func Screenshots(w *Window, dir string, quit func(), log io.Writer) {
 		}
 		time.Sleep(settle)
 	}
+	if capture == nil {
+		capture = func(path string) error {
+			var img image.Image
+			fyne.DoAndWait(func() { img = w.win.Canvas().Capture() })
+			return export.WriteFileAtomic(path, true, func(out io.Writer) error { return png.Encode(out, img) })
+		}
+	}
 	shot := func(name string) {
-		var img image.Image
-		fyne.DoAndWait(func() { img = w.win.Canvas().Capture() })
 		path := filepath.Join(dir, name)
-		err := export.WriteFileAtomic(path, true, func(out io.Writer) error { return png.Encode(out, img) })
-		if err != nil {
+		if err := capture(path); err != nil {
 			fmt.Fprintln(log, "whirlfit:", err)
 			return
 		}

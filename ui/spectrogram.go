@@ -35,7 +35,7 @@ const (
 const (
 	marginL      = 64
 	marginR      = 72
-	marginT      = 8
+	marginT      = 22
 	marginB      = 40
 	barWidth     = 14
 	tickLen      = 5
@@ -47,7 +47,7 @@ const (
 var (
 	colRidge     = color.RGBA{R: 255, G: 255, B: 255, A: 255}
 	colFit       = color.RGBA{R: 235, G: 60, B: 150, A: 255}
-	colBand      = color.RGBA{R: 235, G: 60, B: 150, A: 80}
+	colBand      = color.RGBA{R: 235, G: 60, B: 150, A: 60}
 	colStep      = color.RGBA{R: 255, G: 200, B: 40, A: 255}
 	colMarker    = color.NRGBA{R: 40, G: 200, B: 255, A: 255}
 	colMarkerSel = color.NRGBA{R: 255, G: 120, B: 20, A: 255}
@@ -184,9 +184,11 @@ func rpmRange(tr *analysis.Track, curves []stepCurve) (lo, hi float64) {
 			}
 		}
 	}
+	// The fitted curves stay within the track's range; their bands can
+	// reach far beyond it at a poorly located onset and do not set it.
 	for _, c := range curves {
-		for i := range c.Lo {
-			lo, hi = math.Min(lo, c.Lo[i]), math.Max(hi, c.Hi[i])
+		for _, r := range c.RPM {
+			lo, hi = math.Min(lo, r), math.Max(hi, r)
 		}
 	}
 	if math.IsInf(lo, 0) {
@@ -842,7 +844,7 @@ func (r *spectrogramRenderer) rebuild() {
 	if mode == modeRPM {
 		yName = "rpm"
 	}
-	objs = append(objs, tTitle, label(yName, small, fg, 4, pos.Y, alignLeft))
+	objs = append(objs, tTitle, label(yName, small, fg, 4, 2, alignLeft))
 	if mode == modeSpectrogram && hasData {
 		bx := pos.X + size.Width + 8 + barWidth + 3
 		objs = append(objs,
