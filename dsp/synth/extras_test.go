@@ -26,7 +26,7 @@ func TestPWMSidebands(t *testing.T) {
 	// at the reference speed).
 	r := Rotor{Blades: 3, PolePairs: 7, PWMHz: 8000, PWMLevel: 1, RefHz: 200}
 	const fs = 48000
-	out := renderRotor(r, Constant(200), fs, fs, rand.New(rand.NewPCG(1, 1)))
+	out := renderRotor(r, Constant(200), fs, fs, rand.New(rand.NewPCG(1, 1)), false)
 	freqs := []float64{8000, 9400, 6600, 10800, 5200, 7000}
 	want := []float64{1, 0.5, 0.5, 0.25, 0.25, 0}
 	got := lineAmplitudes(out.tonal, fs, freqs)

@@ -138,17 +138,23 @@ func (r Rotor) Lines(rng *rand.Rand) []Line {
 	return lines
 }
 
-// lowpassNoise fills dst with Gaussian noise of unit RMS band-limited by a
-// one-pole low-pass of cut-off fcHz.
-func lowpassNoise(dst []float64, fcHz, fs float64, rng *rand.Rand) {
+// lowpassNoise is a stream of Gaussian noise of unit RMS band-limited by a
+// one-pole low-pass of cut-off fcHz, generated one sample at a time.
+type lowpassNoise struct {
+	a, scale, y float64
+	rng         *rand.Rand
+}
+
+func newLowpassNoise(fcHz, fs float64, rng *rand.Rand) *lowpassNoise {
 	a := math.Exp(-2 * math.Pi * fcHz / fs)
 	// Variance of y = a·y + (1−a)·x for unit white x is (1−a)/(1+a).
 	scale := math.Sqrt((1 + a) / (1 - a))
-	y := rng.NormFloat64() / scale // start in the stationary state
-	for i := range dst {
-		y = a*y + (1-a)*rng.NormFloat64()
-		dst[i] = y * scale
-	}
+	return &lowpassNoise{a: a, scale: scale, y: rng.NormFloat64() / scale, rng: rng} // stationary start
+}
+
+func (g *lowpassNoise) next() float64 {
+	g.y = g.a*g.y + (1-g.a)*g.rng.NormFloat64()
+	return g.y * g.scale
 }
 
 // rotorRender is the output of renderRotor.
@@ -160,32 +166,32 @@ type rotorRender struct {
 	running []bool // trajectory > 0 at the sample
 }
 
-// renderRotor renders n samples of the rotor at sample rate fs following tr.
-func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand) rotorRender {
+// renderRotor renders n samples of the rotor at sample rate fs following tr;
+// withDrive asks for the broadband drive signal too.
+func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand, withDrive bool) rotorRender {
 	lines := r.Lines(rng)
 	out := rotorRender{
 		tonal:   make([]float64, n),
-		drive:   make([]float64, n),
 		running: make([]bool, n),
 	}
-	dt := 1 / fs
-	// Speed jitter, sampled on the half-sample grid used by Simpson's rule.
-	var jit []float64
-	if r.JitterRel > 0 {
-		jit = make([]float64, 2*n+1)
-		lowpassNoise(jit, 20, 2*fs, rng)
-		for i := range jit {
-			jit[i] = 1 + r.JitterRel*jit[i]
-		}
+	if withDrive {
+		out.drive = make([]float64, n)
 	}
-	var am []float64
+	dt := 1 / fs
+	// Speed jitter on the half-sample grid used by Simpson's rule, and slow
+	// amplitude modulation, each from its own stream so that one does not
+	// shift the other's draws.
+	var jit *lowpassNoise
+	if r.JitterRel > 0 {
+		jit = newLowpassNoise(20, 2*fs, rand.New(rand.NewPCG(rng.Uint64(), 1)))
+	}
+	var am *lowpassNoise
 	if r.AMDepth > 0 {
 		rate := r.AMRateHz
 		if rate <= 0 {
 			rate = 3
 		}
-		am = make([]float64, n)
-		lowpassNoise(am, rate, fs, rng)
+		am = newLowpassNoise(rate, fs, rand.New(rand.NewPCG(rng.Uint64(), 2)))
 	}
 	raw := func(k int) float64 { // trajectory at time k·dt/2, ≥ 0
 		f := tr(float64(k) * dt / 2)
@@ -194,10 +200,12 @@ func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand) roto
 		}
 		return f
 	}
-	freq := func(k int) float64 { // rendered frequency at time k·dt/2
+	// freq is the rendered frequency at time k·dt/2; it must be called for
+	// k = 0, 1, 2, … in turn (the jitter is a stream).
+	freq := func(k int) float64 {
 		f := raw(k)
 		if jit != nil {
-			f *= jit[k]
+			f *= 1 + r.JitterRel*jit.next()
 		}
 		return f
 	}
@@ -245,7 +253,7 @@ func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand) roto
 				law = math.Pow(f/ref, ex)
 			}
 			if am != nil {
-				law *= 1 + r.AMDepth*am[i]
+				law *= 1 + r.AMDepth*am.next()
 			}
 			zi, zr := math.Sincos(2 * math.Pi * phase)
 			pr, pi := 1.0, 0.0 // z^h
@@ -294,13 +302,16 @@ func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand) roto
 					}
 				}
 			}
-			out.drive[i] = law * (1 + 0.3*bladeCos)
+			if out.drive != nil {
+				out.drive[i] = law * (1 + 0.3*bladeCos)
+			}
 		}
 		// Simpson's rule over [i·dt, (i+1)·dt].
-		fm, f1r := freq(2*i+1), raw(2*i+2)
+		fm := freq(2*i + 1)
+		f1r := raw(2*i + 2)
 		f1 := f1r
 		if jit != nil {
-			f1 *= jit[2*i+2]
+			f1 *= 1 + r.JitterRel*jit.next()
 		}
 		phase += dt / 6 * (f + 4*fm + f1)
 		phase -= math.Floor(phase)

@@ -31,7 +31,7 @@ func TestPhaseIntegrationExact(t *testing.T) {
 	tr := Steps(f0, Step{CommandS: s - 0.004, TargetHz: f1, TauS: tau, DeadS: 0.004})
 	r := pureRotor()
 	n := 20 * fs
-	out := renderRotor(r, tr, n, fs, rand.New(rand.NewPCG(1, 2)))
+	out := renderRotor(r, tr, n, fs, rand.New(rand.NewPCG(1, 2)), false)
 	p := r.Lines(rand.New(rand.NewPCG(1, 2)))[0].PhaseC
 	var maxErr float64
 	for i := 0; i < n; i++ {
@@ -51,7 +51,7 @@ func TestPhaseIntegrationExact(t *testing.T) {
 func TestConstantFrequencyZeroCrossings(t *testing.T) {
 	// Independent check: a 10 s line at f has 2·f·10 zero crossings (±1).
 	for _, f := range []float64{80, 137.5, 550} {
-		out := renderRotor(pureRotor(), Constant(f), 10*16000, 16000, rand.New(rand.NewPCG(3, 4)))
+		out := renderRotor(pureRotor(), Constant(f), 10*16000, 16000, rand.New(rand.NewPCG(3, 4)), false)
 		var zc int
 		for i := 1; i < len(out.tonal); i++ {
 			if (out.tonal[i-1] < 0) != (out.tonal[i] < 0) {
@@ -93,8 +93,8 @@ func TestLinesAndLaw(t *testing.T) {
 	// Amplitude law: doubling the speed quadruples the amplitude (exponent 2).
 	pr := pureRotor()
 	pr.LevelExponent = 0
-	a := renderRotor(pr, Constant(100), 48000, 48000, rand.New(rand.NewPCG(1, 1)))
-	b := renderRotor(pr, Constant(200), 48000, 48000, rand.New(rand.NewPCG(1, 1)))
+	a := renderRotor(pr, Constant(100), 48000, 48000, rand.New(rand.NewPCG(1, 1)), false)
+	b := renderRotor(pr, Constant(200), 48000, 48000, rand.New(rand.NewPCG(1, 1)), false)
 	ratio := math.Sqrt(meanPower(b.tonal) / meanPower(a.tonal))
 	t.Logf("amplitude ratio for 2× speed: %.4f", ratio)
 	if math.Abs(ratio-4) > 0.01 {
@@ -106,7 +106,7 @@ func TestNyquistFade(t *testing.T) {
 	// At 16 kHz a 550 Hz five-blade rotor's upper blade-pass harmonics
 	// (≥ 6.72 kHz) fade or vanish rather than alias.
 	r := Rotor{Blades: 5, BladeHarmonics: 4, BladeLevel: 1, BladeRolloff: 1, RefHz: 550}
-	out := renderRotor(r, Constant(550), 16000, 16000, rand.New(rand.NewPCG(5, 5)))
+	out := renderRotor(r, Constant(550), 16000, 16000, rand.New(rand.NewPCG(5, 5)), false)
 	// Harmonics 2750 and 5500 Hz survive whole, 8250 and 11000 Hz are
 	// above 0.96·Nyquist and vanish: power is (1 + 1/4)/2.
 	got := meanPower(out.tonal)

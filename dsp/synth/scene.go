@@ -157,7 +157,7 @@ func (sc *Scene) rng(stream uint64) *rand.Rand {
 
 // parts are the stages of a rendering, kept for tests.
 type parts struct {
-	tonal, interference, noise []float64 // after high-pass and SNR scaling
+	tonal, interference, noise []float64 // after high-pass and SNR scaling; nil when absent
 	running                    []bool
 	mix                        []float64 // final output before conversion to float32
 }
@@ -185,7 +185,7 @@ func render(sc Scene) (*parts, error) {
 	}
 	n := sc.NumSamples()
 	fs := float64(sc.SampleRate)
-	rr := renderRotor(sc.Rotor, sc.Shaft, n, fs, sc.rng(streamRotor))
+	rr := renderRotor(sc.Rotor, sc.Shaft, n, fs, sc.rng(streamRotor), sc.RotorNoiseShare > 0 && !math.IsInf(sc.SNRdB, 1))
 	p := &parts{tonal: rr.tonal, running: rr.running}
 	resonate(rr.tonal, sc.Resonances, fs)
 
@@ -200,7 +200,9 @@ func render(sc Scene) (*parts, error) {
 		}
 	}
 
-	p.interference = make([]float64, n)
+	if sc.HumHz > 0 || sc.ToneHz > 0 || len(sc.Others) > 0 {
+		p.interference = make([]float64, n)
+	}
 	irng := sc.rng(streamInterference)
 	if sc.HumHz > 0 {
 		addHum(p.interference, sc.HumHz, pt*dB(sc.HumDB), fs, irng)
@@ -213,7 +215,7 @@ func render(sc Scene) (*parts, error) {
 		}
 	}
 	for k, m := range sc.Others {
-		o := renderRotor(m.Rotor, m.Shaft, n, fs, sc.rng(streamOthers+uint64(k)))
+		o := renderRotor(m.Rotor, m.Shaft, n, fs, sc.rng(streamOthers+uint64(k)), false)
 		po := runningPower(o.tonal, o.running)
 		if po > 0 {
 			g := math.Sqrt(pt * dB(m.LevelDB) / po)
@@ -262,7 +264,10 @@ func render(sc Scene) (*parts, error) {
 
 	mix := make([]float64, n)
 	for i := range mix {
-		mix[i] = p.tonal[i] + p.interference[i]
+		mix[i] = p.tonal[i]
+		if p.interference != nil {
+			mix[i] += p.interference[i]
+		}
 		if p.noise != nil {
 			mix[i] += p.noise[i]
 		}
