@@ -3,6 +3,7 @@ package dsp
 import (
 	"fmt"
 	"math"
+	"unsafe"
 )
 
 // Float is the sample type of the FFT: float32 (the STFT's choice, half the
@@ -37,6 +38,11 @@ type RealFFT[T Float] struct {
 	ar, ai, br, bi []T
 	// ur, ui hold e^{−2πik/n} for k = 0..m/2 for the real unpacking.
 	ur, ui []T
+	// simd selects the AVX kernels (float32 plans on CPUs with AVX);
+	// fused also runs the first pass straight from the real input.
+	simd, fused bool
+	// twv holds the first pass's twiddles as vectors for the fused kernel.
+	twv []float32
 }
 
 // fftPass is one radix-4 (or final radix-2) Stockham pass of a length-m
@@ -46,6 +52,8 @@ type fftPass[T Float] struct {
 	radix, l, s        int
 	w1r, w1i, w2r, w2i []T
 	w3r, w3i           []T
+	// tw interleaves the twiddles per j for the AVX kernels (float32).
+	tw []float32
 }
 
 // NewRealFFT returns a plan for real transforms of length n. It panics
@@ -79,9 +87,32 @@ func NewRealFFT[T Float](n int) *RealFFT[T] {
 				}
 			}
 		}
+		if r == 4 {
+			p.tw = make([]float32, 6*q)
+			for j := range q {
+				copy(p.tw[6*j:], []float32{float32(p.w1r[j]), float32(p.w1i[j]), float32(p.w2r[j]), float32(p.w2i[j]), float32(p.w3r[j]), float32(p.w3i[j])})
+			}
+		}
 		f.passes = append(f.passes, p)
 		l /= r
 		s *= r
+	}
+	var zero T
+	_, is32 := any(zero).(float32)
+	f.simd = is32 && haveAVX
+	if q := m / 4; f.simd && m >= 32 && q%8 == 0 && f.passes[0].radix == 4 {
+		// Lanes of the fused kernel hold j = 0,1,4,5,2,3,6,7 of each block.
+		perm := [8]int{0, 1, 4, 5, 2, 3, 6, 7}
+		p := &f.passes[0]
+		f.fused = true
+		f.twv = make([]float32, 6*q)
+		for b := 0; b < q/8; b++ {
+			for v, tab := range [6][]T{p.w1r, p.w1i, p.w2r, p.w2i, p.w3r, p.w3i} {
+				for l, j := range perm {
+					f.twv[48*b+8*v+l] = float32(tab[8*b+j])
+				}
+			}
+		}
 	}
 	f.ur, f.ui = make([]T, m/2+1), make([]T, m/2+1)
 	for k := range f.ur {
@@ -105,11 +136,17 @@ func (f *RealFFT[T]) Transform(re, im, x []T) ([]T, []T) {
 		panic(fmt.Sprintf("dsp: FFT input length %d, plan length %d", len(x), f.n))
 	}
 	re, im = f.dst(re, im)
+	if f.fused {
+		f.firstFused(x, nil)
+		f.finish(re, im)
+		return re, im
+	}
 	zr, zi := f.inputBuffers()
 	for j := range zr {
 		zr[j] = x[2*j]
 		zi[j] = x[2*j+1]
 	}
+	f.complexFFT(zr, zi, 0)
 	f.finish(re, im)
 	return re, im
 }
@@ -122,6 +159,11 @@ func (f *RealFFT[T]) TransformWindowed(re, im, x, w []T) ([]T, []T) {
 		panic(fmt.Sprintf("dsp: FFT input length %d, window length %d, plan length %d", len(x), len(w), f.n))
 	}
 	re, im = f.dst(re, im)
+	if f.fused {
+		f.firstFused(x, w)
+		f.finish(re, im)
+		return re, im
+	}
 	zr, zi := f.inputBuffers()
 	x = x[:2*len(zr)]
 	w = w[:2*len(zr)]
@@ -129,8 +171,31 @@ func (f *RealFFT[T]) TransformWindowed(re, im, x, w []T) ([]T, []T) {
 		zr[j] = x[2*j] * w[2*j]
 		zi[j] = x[2*j+1] * w[2*j+1]
 	}
+	f.complexFFT(zr, zi, 0)
 	f.finish(re, im)
 	return re, im
+}
+
+// firstFused runs the first pass from the real input x (windowed by w
+// unless w is nil) with the AVX kernel, then the remaining passes.
+func (f *RealFFT[T]) firstFused(x, w []T) {
+	xr, xi := f.inputBuffers()
+	yr, yi := f.other(xr, xi)
+	var wp *float32
+	if w != nil {
+		wp = f32p(w)
+	}
+	q := f.m / 4
+	radix4FirstAVX(f32p(x), wp, f32p(yr), f32p(yi), q/8, 8*q, &f.twv[0])
+	f.complexFFT(yr, yi, 1)
+}
+
+// other returns the ping-pong partner of the buffer pair (xr, xi).
+func (f *RealFFT[T]) other(xr, xi []T) ([]T, []T) {
+	if &xr[0] == &f.ar[0] {
+		return f.br, f.bi
+	}
+	return f.ar, f.ai
 }
 
 func (f *RealFFT[T]) dst(re, im []T) ([]T, []T) {
@@ -155,11 +220,9 @@ func (f *RealFFT[T]) inputBuffers() ([]T, []T) {
 	return f.br, f.bi
 }
 
-// finish runs the complex FFT on the packed input and unpacks the real
-// spectrum into re, im.
+// finish unpacks the real spectrum into re, im from the complex FFT's
+// result in f.ar, f.ai.
 func (f *RealFFT[T]) finish(re, im []T) {
-	xr, xi := f.inputBuffers()
-	f.complexFFT(xr, xi)
 	// Z = f.ar, f.ai. X[k] = E[k] + W^k·O[k] with E = (Z[k] + conj Z[m−k])/2,
 	// O = (Z[k] − conj Z[m−k])/(2i), W = e^{−2πi/n}; pairs k, m−k together.
 	m := f.m
@@ -215,7 +278,7 @@ func (f *RealFFT[T]) Inverse(x, re, im []T) []T {
 		xi[k] = er - oi
 		xr[k] = ei + or
 	}
-	f.complexFFT(xr, xi)
+	f.complexFFT(xr, xi, 0)
 	scale := 1 / T(m)
 	for j := 0; j < m; j++ {
 		x[2*j] = f.ai[j] * scale
@@ -234,23 +297,32 @@ func (f *RealFFT[T]) twiddleN(k int) (T, T) {
 	return -f.ur[j], f.ui[j]
 }
 
-// complexFFT transforms (xr, xi), which must be the buffer pair returned by
-// inputBuffers, leaving the result in f.ar, f.ai.
-func (f *RealFFT[T]) complexFFT(xr, xi []T) {
-	yr, yi := f.ar, f.ai
-	if &xr[0] == &f.ar[0] {
-		yr, yi = f.br, f.bi
-	}
-	for i := range f.passes {
+// complexFFT runs passes start, start+1, … on (xr, xi), one of the two
+// ping-pong buffer pairs (the one inputBuffers returns when start = 0),
+// leaving the result in f.ar, f.ai.
+func (f *RealFFT[T]) complexFFT(xr, xi []T, start int) {
+	yr, yi := f.other(xr, xi)
+	for i := start; i < len(f.passes); i++ {
 		p := &f.passes[i]
-		if p.radix == 4 {
+		switch {
+		case f.simd && p.radix == 4 && p.s%8 == 0:
+			radix4AVX8(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.l/4, p.s/8, 4*p.s, &p.tw[0])
+		case f.simd && p.radix == 4 && p.s == 4:
+			radix4AVX4(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.l/4, 1, 4*p.s, &p.tw[0])
+		case f.simd && p.radix == 2 && p.s%8 == 0:
+			radix2AVX8(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.s/8, 4*p.s)
+		case p.radix == 4:
 			radix4Pass(p, xr, xi, yr, yi)
-		} else {
+		default:
 			radix2Pass(p, xr, xi, yr, yi)
 		}
 		xr, xi, yr, yi = yr, yi, xr, xi
 	}
 }
+
+// f32p returns the address of a float32 slice's first element; the AVX
+// paths run only for float32 plans, so T is float32 there.
+func f32p[T Float](s []T) *float32 { return (*float32)(unsafe.Pointer(unsafe.SliceData(s))) }
 
 // radix4Pass is one Stockham decimation-in-frequency pass: for each
 // sub-transform position j < q = l/4 and stride offset t < s,

@@ -269,7 +269,12 @@ func ComputeSpectrogram(ctx context.Context, x []float32, fs float64, cfg STFTCo
 // magnitude writes |re + i·im| into dst (all of one length).
 func magnitude(dst, re, im []float32) {
 	re, im = re[:len(dst)], im[:len(dst)]
-	for k := range dst {
+	k0 := 0
+	if haveAVX && len(dst) >= 8 {
+		k0 = len(dst) &^ 7
+		magnitudeAVX8(&dst[0], &re[0], &im[0], k0/8)
+	}
+	for k := k0; k < len(dst); k++ {
 		dst[k] = float32(math.Sqrt(float64(re[k]*re[k] + im[k]*im[k])))
 	}
 }
