@@ -31,6 +31,7 @@ import (
 // empty positions between them; a candidate an octave high misses the odd
 // harmonics, which include the strongest, first one. Clamping at zCap keeps
 // one very strong line (a whine, a hum harmonic) from outweighing a comb.
+// The shaft line at f0 itself adds positive evidence (shaftLineWeight).
 // The shaft-order lines enter the refinement (tracker.go) and the comb
 // checks (tracker_checks.go), which warn when another blade count fits.
 const (
@@ -49,6 +50,16 @@ const (
 	// combHarmonics is M above; combDecay the weight ratio.
 	combHarmonics = 6
 	combDecay     = 0.84
+	// shaftLineWeight weighs the evidence of a shaft line at f0 itself:
+	// positive only, since the shaft line is often weak or cut by a
+	// microphone's high-pass. Of two candidates that both explain the
+	// blade-pass lines, f0 and f0/2 (lines at f0 and 2·f0 with two blades:
+	// blade-pass harmonics 1 and 2 of f0/2, or shaft line and blade-pass
+	// line of f0), it favours the one whose shaft line is there. It must
+	// exceed combDecay (the weight the f0/2 candidate gives its second line)
+	// and stay well below what the blade-pass comb of the octave-high
+	// candidate 2·f0 loses (TestSalienceOctaveGuard).
+	shaftLineWeight = 1.0
 	// oddEvenSlack and oddEvenCost: see salience.
 	oddEvenSlack = 0.5
 	oddEvenCost  = 3
@@ -69,6 +80,9 @@ type combTable struct {
 	thr   []float32
 	wsum  []float32
 	binHz float64
+	// shaftBin is the bin of the shaft line itself (−1 when the comb is the
+	// shaft comb, blades ≤ 1, or out of range).
+	shaftBin []int32
 }
 
 // noiseSD is the standard deviation of v for a noise-only position
@@ -96,7 +110,7 @@ func newCandidateGrid(lo, hi, rel float64) []float64 {
 // combDecay^(m−1). Harmonics beyond the spectrum are left out.
 func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTable {
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
-		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0))}
+		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)), shaftBin: make([]int32, len(f0))}
 	if len(f0) > 1 {
 		t.logStep = math.Log(f0[1] / f0[0])
 	}
@@ -117,6 +131,10 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 			w *= combDecay
 		}
 		t.thr[k] = float32(voiceZ * noiseSD * math.Sqrt(w2))
+		t.shaftBin[k] = -1
+		if b := int(f / binHz); order > 1 && b+1 < bins-1 {
+			t.shaftBin[k] = int32(b)
+		}
 	}
 	t.start[len(f0)] = int32(len(t.bin))
 	return t
@@ -154,6 +172,10 @@ func (t *combTable) salience(dst, z []float32, klo, khi int) {
 			if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
 				s -= oddEvenCost * d
 			}
+		}
+		if b := t.shaftBin[k]; b >= 0 {
+			v := min(max(z[b], z[b+1]), zCap)
+			s += shaftLineWeight * max(0, v-emptyCost)
 		}
 		dst[k-klo] = s - t.thr[k]
 	}

@@ -220,13 +220,12 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics)
 	sal := make([]float32, T*K)
 
-	var spec *dsp.Spectrogram
-	dec := 1
+	var red *dsp.Reducer
 	if display {
-		dec = (T + maxDisplayFrames - 1) / maxDisplayFrames
-		rows := (T + dec - 1) / dec
-		spec = &dsp.Spectrogram{Frames: rows, Bins: bins, Mag: make([]float32, rows*bins),
-			FrameLen: sc.FrameLen, Hop: sc.Hop * dec, FFTLen: sc.FFTLen, SampleRate: fs}
+		var err error
+		if red, err = dsp.NewReducer(sc, fs, len(tk.x), maxDisplayFrames); err != nil {
+			return nil, nil, fmt.Errorf("analysis: tracking: %w", err)
+		}
 	}
 	workers := sc.Workers
 	scratch := make([]searchScratch, workers)
@@ -238,17 +237,18 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		s := &scratch[w]
 		s.wh.whiten(s.z, re, im)
 		comb.salience(sal[i*K:(i+1)*K], s.z, 0, K)
-		if spec != nil && i%dec == 0 {
-			row := spec.Row(i / dec)
-			for k := range row {
-				row[k] = float32(math.Sqrt(float64(re[k]*re[k] + im[k]*im[k])))
-			}
+		if red != nil {
+			red.Frame(w, i, re, im)
 		}
 	}, tk.report(total))
 	if err != nil {
 		return nil, nil, fmt.Errorf("analysis: tracking: %w", err)
 	}
 	tk.done += T
+	var spec *dsp.Spectrogram
+	if red != nil {
+		spec = red.Spectrogram()
+	}
 
 	// Typical salience of a frame with a motor: the median of the frames'
 	// maxima where positive.
