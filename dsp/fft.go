@@ -231,7 +231,13 @@ func (f *RealFFT[T]) finish(re, im []T) {
 	re[0], im[0] = zr[0]+zi[0], 0
 	re[m], im[m] = zr[0]-zi[0], 0
 	ur, ui := f.ur[:m/2+1], f.ui[:m/2+1]
-	for k := 1; k <= m/2; k++ {
+	k1 := 1
+	if nb := (m/2 - 1) / 8; f.simd && nb > 0 {
+		// Blocks k = 1+8b .. 8+8b entirely below m/2 (mirrors above it).
+		unpackAVX(f32p(zr), f32p(zi), f32p(re), f32p(im), f32p(ur), f32p(ui), m, nb, &halfF32)
+		k1 = 1 + 8*nb
+	}
+	for k := k1; k <= m/2; k++ {
 		a, b := zr[k], zi[k]
 		c, d := zr[m-k], zi[m-k]
 		er, ei := (a+c)*0.5, (b-d)*0.5
@@ -319,6 +325,8 @@ func (f *RealFFT[T]) complexFFT(xr, xi []T, start int) {
 		xr, xi, yr, yi = yr, yi, xr, xi
 	}
 }
+
+var halfF32 = float32(0.5)
 
 // f32p returns the address of a float32 slice's first element; the AVX
 // paths run only for float32 plans, so T is float32 there.

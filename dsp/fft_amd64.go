@@ -38,3 +38,9 @@ func magnitudeAVX8(dst, re, im *float32, n8 int)
 //
 //go:noescape
 func radix4FirstAVX(x, w, yr, yi *float32, q8, kbytes int, twv *float32)
+
+// unpackAVX is the real-FFT unpacking of RealFFT.finish for k = 1..8·nb and
+// m−k; *half must be 0.5.
+//
+//go:noescape
+func unpackAVX(zr, zi, re, im, ur, ui *float32, m, nb int, half *float32)

@@ -403,3 +403,67 @@ firstwloop:
 	JNZ firstwloop
 	VZEROUPPER
 	RET
+
+// REV8 reverses the 8 floats of R (swap the 128-bit halves, then reverse
+// each half).
+#define REV8(R) \
+	VPERM2F128 $0x01, R, R, R; \
+	VSHUFPS $0x1B, R, R, R
+
+// func unpackAVX(zr, zi, re, im, ur, ui *float32, m, nb int, half *float32)
+// The real-FFT unpacking of RealFFT.finish for k = 1 .. 8·nb and their
+// mirrors m−k, 8 values of k per step with the mirrors loaded and stored
+// reversed.
+TEXT ·unpackAVX(SB), NOSPLIT, $0-72
+	MOVQ zr+0(FP), AX
+	MOVQ zi+8(FP), BX
+	MOVQ re+16(FP), CX
+	MOVQ im+24(FP), DX
+	MOVQ ur+32(FP), SI
+	MOVQ ui+40(FP), DI
+	MOVQ m+48(FP), R9
+	MOVQ nb+56(FP), R10
+	MOVQ half+64(FP), R11
+	VBROADCASTSS (R11), Y15
+	MOVQ $4, R8
+	SUBQ $8, R9
+	SHLQ $2, R9
+unpack:
+	VMOVUPS (AX)(R8*1), Y0
+	VMOVUPS (BX)(R8*1), Y1
+	VMOVUPS (AX)(R9*1), Y2
+	VMOVUPS (BX)(R9*1), Y3
+	REV8(Y2)
+	REV8(Y3)
+	VADDPS Y2, Y0, Y4
+	VMULPS Y15, Y4, Y4
+	VSUBPS Y3, Y1, Y5
+	VMULPS Y15, Y5, Y5
+	VADDPS Y3, Y1, Y6
+	VMULPS Y15, Y6, Y6
+	VSUBPS Y0, Y2, Y7
+	VMULPS Y15, Y7, Y7
+	VMOVUPS (SI)(R8*1), Y8
+	VMOVUPS (DI)(R8*1), Y9
+	VMULPS Y6, Y8, Y10
+	VMULPS Y7, Y9, Y11
+	VSUBPS Y11, Y10, Y10
+	VMULPS Y7, Y8, Y11
+	VMULPS Y6, Y9, Y12
+	VADDPS Y12, Y11, Y11
+	VADDPS Y10, Y4, Y0
+	VMOVUPS Y0, (CX)(R8*1)
+	VADDPS Y11, Y5, Y1
+	VMOVUPS Y1, (DX)(R8*1)
+	VSUBPS Y10, Y4, Y2
+	VSUBPS Y5, Y11, Y3
+	REV8(Y2)
+	REV8(Y3)
+	VMOVUPS Y2, (CX)(R9*1)
+	VMOVUPS Y3, (DX)(R9*1)
+	ADDQ $32, R8
+	SUBQ $32, R9
+	DECQ R10
+	JNZ unpack
+	VZEROUPPER
+	RET
