@@ -195,6 +195,25 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 	var imp []string
 
 	fs := o.SampleRates[rng.IntN(len(o.SampleRates))]
+	var tg *Trigger
+	if rng.Float64() < o.Stereo {
+		tg = &Trigger{Kind: TriggerKind(rng.IntN(3))}
+		if rng.IntN(2) == 0 {
+			tg.ACHz = 5 + 45*rng.Float64()
+		}
+		if tg.Kind == TriggerPWM {
+			tg.RateHz = []float64{50, 50, 125, 250, 400}[rng.IntN(5)]
+			tg.PhaseS = rng.Float64() / tg.RateHz
+		}
+	}
+	// onGrid moves a command time to the trigger's frame grid (PWM lines
+	// carry commands only at frame starts).
+	onGrid := func(t float64) float64 {
+		if tg != nil && tg.Kind == TriggerPWM {
+			return tg.FrameS(t)
+		}
+		return t
+	}
 	blades := o.MinBlades + rng.IntN(o.MaxBlades-o.MinBlades+1)
 	rotor := randomRotor(rng, blades)
 	if on() {
@@ -242,7 +261,8 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 	}
 	if standstill {
 		start, level0 = 0, 0
-		s := Step{CommandS: t, TargetHz: level, TauS: Range{0.08, 0.35}.drawLog(rng), DeadS: o.DeadS.draw(rng)}
+		s := Step{CommandS: onGrid(t), TargetHz: level, TauS: Range{0.08, 0.35}.drawLog(rng), DeadS: o.DeadS.draw(rng)}
+		t = s.CommandS
 		steps = append(steps, s)
 		t += gapAfter(s)
 		imp = append(imp, "standstill")
@@ -262,7 +282,8 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		if !up {
 			tau = math.Min(tau*o.DownTauFactor.draw(rng), math.Max(o.TauS.Max, o.TauS.Min))
 		}
-		s := Step{CommandS: t, TargetHz: target, TauS: tau, DeadS: o.DeadS.draw(rng)}
+		s := Step{CommandS: onGrid(t), TargetHz: target, TauS: tau, DeadS: o.DeadS.draw(rng)}
+		t = s.CommandS
 		steps = append(steps, s)
 		t += gapAfter(s)
 		level, prevUp = target, up
@@ -372,14 +393,12 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		c.Format = []Format{WAV16, WAV24, WAVFloat}[rng.IntN(3)]
 		c.Bits = c.Format.Bits()
 	}
-	if rng.Float64() < o.Stereo {
-		tg := &Trigger{Kind: TriggerKind(rng.IntN(2))}
+	if tg != nil {
 		for _, s := range truthSteps {
 			tg.CommandS = append(tg.CommandS, s.CommandS)
+			tg.Throttle = append(tg.Throttle, s.TargetHz/(1.1*hi))
 		}
-		if rng.IntN(2) == 0 {
-			tg.ACHz = 5 + 45*rng.Float64()
-		}
+		tg.StartThrottle = start / (1.1 * hi)
 		c.Trigger = tg
 	}
 	return c

@@ -3,6 +3,7 @@ package synth
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -249,5 +250,71 @@ func TestRandomStreamsIndependent(t *testing.T) {
 		if p1.tonal[i] != p2.tonal[i] {
 			t.Fatalf("tonal differs at %d", i)
 		}
+	}
+}
+
+func TestTriggerPWM(t *testing.T) {
+	// 50 Hz frames from 3 ms; a command at 1.0 s reaches the line at the
+	// frame starting at 1.003 s, whose pulse widens from 1.2 to 1.8 ms.
+	sc := baseScene()
+	tg := Trigger{Kind: TriggerPWM, PhaseS: 0.003, StartThrottle: 0.2, CommandS: []float64{1.003}, Throttle: []float64{0.8}}
+	if got := tg.FrameS(0.97); math.Abs(got-0.983) > 1e-12 {
+		t.Errorf("FrameS(0.97) = %g, want 0.983", got)
+	}
+	if got := tg.FrameS(1.003); math.Abs(got-1.003) > 1e-12 {
+		t.Errorf("FrameS(1.003) = %g, want 1.003", got)
+	}
+	st, err := RenderStereo(sc, tg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Pulse widths in samples, frame by frame.
+	var starts, widths []int
+	x := st[1]
+	for i := 1; i < len(x); i++ {
+		if x[i-1] < 0.4 && x[i] >= 0.4 {
+			starts = append(starts, i)
+		}
+		if x[i-1] >= 0.4 && x[i] < 0.4 {
+			widths = append(widths, i-starts[len(starts)-1])
+		}
+	}
+	if len(starts) != 150 { // 3 s at 50 Hz
+		t.Fatalf("%d pulses, want 150", len(starts))
+	}
+	for k, w := range widths {
+		want := int(math.Ceil((0.003+float64(k)*0.02+0.0012)*16000)) - starts[k]
+		if float64(starts[k])/16000 >= 1.003-1e-9 {
+			want = int(math.Ceil((0.003+float64(k)*0.02+0.0018)*16000)) - starts[k]
+		}
+		if w != want {
+			t.Fatalf("pulse %d at sample %d: width %d, want %d", k, starts[k], w, want)
+		}
+	}
+}
+
+func TestRandomPWMCommandsOnGrid(t *testing.T) {
+	o := DefaultRandomOptions()
+	o.Stereo = 1
+	rng := rand.New(rand.NewPCG(5, 6))
+	var n int
+	for range 60 {
+		c := RandomScene(rng, o)
+		if c.Trigger == nil {
+			t.Fatal("no trigger with Stereo = 1")
+		}
+		if c.Trigger.Kind != TriggerPWM {
+			continue
+		}
+		n++
+		for _, s := range c.Truth.Steps {
+			if g := c.Trigger.FrameS(s.CommandS); math.Abs(g-s.CommandS) > 1e-9 {
+				t.Errorf("command %g not on the frame grid (next frame %g)", s.CommandS, g)
+			}
+		}
+	}
+	t.Logf("%d PWM cases of 60", n)
+	if n == 0 {
+		t.Error("no PWM trigger drawn")
 	}
 }

@@ -15,6 +15,12 @@ const (
 	TriggerToggle TriggerKind = iota
 	// TriggerPulse is a 5 ms rectangular pulse starting at each command.
 	TriggerPulse
+	// TriggerPWM is a servo-style throttle line: one pulse per frame at
+	// RateHz, 1 ms wide at zero throttle and 2 ms at full throttle. A
+	// command takes effect at a frame start, so its command time must lie
+	// on the frame grid PhaseS + k/RateHz (RandomScene puts it there); the
+	// first pulse of the new width then starts exactly at the command time.
+	TriggerPWM
 )
 
 // Trigger describes a command channel recorded beside the sound, for example
@@ -32,6 +38,28 @@ type Trigger struct {
 	// NoiseDB is the channel's white noise relative to Level, in dB
 	// (0 means −60 dB).
 	NoiseDB float64
+	// For TriggerPWM: the frame rate (0 means 50 Hz), the time of the first
+	// frame start (in [0, 1/RateHz)), the throttle (0–1) before the first
+	// command and after each command.
+	RateHz        float64
+	PhaseS        float64
+	StartThrottle float64
+	Throttle      []float64
+}
+
+// FrameS returns the first PWM frame start at or after tS: the time at
+// which a command given at tS reaches a TriggerPWM line.
+func (tg Trigger) FrameS(tS float64) float64 {
+	rate := tg.rate()
+	k := math.Ceil((tS-tg.PhaseS)*rate - 1e-9)
+	return tg.PhaseS + k/rate
+}
+
+func (tg Trigger) rate() float64 {
+	if tg.RateHz > 0 {
+		return tg.RateHz
+	}
+	return 50
 }
 
 // Commands returns the command times of steps.
@@ -64,6 +92,33 @@ func triggerSignal(sc Scene, tg Trigger) []float64 {
 	x := make([]float64, n)
 	edge := func(t float64) int { return min(n, max(0, int(math.Ceil(t*fs-1e-9)))) }
 	switch tg.Kind {
+	case TriggerPWM:
+		rate := tg.rate()
+		type cmd struct{ t, th float64 }
+		cmds := make([]cmd, len(tg.CommandS))
+		for i, t := range tg.CommandS {
+			th := tg.StartThrottle
+			if i < len(tg.Throttle) {
+				th = tg.Throttle[i]
+			}
+			cmds[i] = cmd{t, th}
+		}
+		sort.SliceStable(cmds, func(i, j int) bool { return cmds[i].t < cmds[j].t })
+		th, next := tg.StartThrottle, 0
+		for k := 0; ; k++ {
+			start := tg.PhaseS + float64(k)/rate
+			if start >= sc.DurationS {
+				break
+			}
+			for next < len(cmds) && cmds[next].t <= start+1e-9 {
+				th = cmds[next].th
+				next++
+			}
+			w := 0.001 * (1 + math.Max(0, math.Min(1, th)))
+			for i := edge(start); i < min(n, edge(start+w)); i++ {
+				x[i] = level
+			}
+		}
 	case TriggerPulse:
 		w := int(0.005 * fs)
 		for _, t := range tg.CommandS {
