@@ -21,7 +21,7 @@ var resultColumns = []struct {
 }{
 	{"#", 36, func(n int, s *analysis.StepResult) string { return strconv.Itoa(n) }},
 	{"dir", 60, func(n int, s *analysis.StepResult) string { return string(s.Direction) }},
-	{"command (s)", 104, func(n int, s *analysis.StepResult) string {
+	{"command (s)", 120, func(n int, s *analysis.StepResult) string {
 		if s.CommandS == nil {
 			return "—"
 		}

@@ -4,6 +4,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"strconv"
 	"sync"
 
 	"fyne.io/fyne/v2"
@@ -781,7 +782,7 @@ func (r *spectrogramRenderer) rebuild() {
 	hasData := v.spec != nil
 	// Time axis.
 	if vp.T1 > vp.T0 {
-		for _, tk := range (plot.DefaultTicks{}).Ticks(vp.T0, vp.T1) {
+		for _, tk := range ticks(vp.T0, vp.T1) {
 			x := xOf(tk.Value)
 			if x < pos.X-0.5 || x > pos.X+size.Width+0.5 {
 				continue
@@ -798,7 +799,7 @@ func (r *spectrogramRenderer) rebuild() {
 	}
 	// Vertical axis.
 	if yhi > ylo {
-		for _, tk := range (plot.DefaultTicks{}).Ticks(ylo, yhi) {
+		for _, tk := range ticks(ylo, yhi) {
 			y := yOf(tk.Value)
 			if y < pos.Y-0.5 || y > pos.Y+size.Height+0.5 {
 				continue
@@ -858,6 +859,38 @@ func (r *spectrogramRenderer) rebuild() {
 		r.bar.Show()
 	}
 	r.objects = objs
+}
+
+// ticks returns gonum/plot's default ticks for [lo, hi] with the major
+// labels written with as few decimals as their values need.
+func ticks(lo, hi float64) []plot.Tick {
+	tks := (plot.DefaultTicks{}).Ticks(lo, hi)
+	var majors []float64
+	for _, tk := range tks {
+		if tk.Label != "" {
+			majors = append(majors, tk.Value)
+		}
+	}
+	// The fewest decimals (up to 6) that write every major value exactly.
+	dec := 0
+	for ; dec < 6; dec++ {
+		exact := true
+		for _, m := range majors {
+			r, _ := strconv.ParseFloat(strconv.FormatFloat(m, 'f', dec, 64), 64)
+			if math.Abs(r-m) > 1e-9*math.Max(1, math.Abs(m)) {
+				exact = false
+			}
+		}
+		if exact {
+			break
+		}
+	}
+	for i := range tks {
+		if tks[i].Label != "" {
+			tks[i].Label = strconv.FormatFloat(tks[i].Value, 'f', dec, 64)
+		}
+	}
+	return tks
 }
 
 type textAlign int

@@ -1,0 +1,123 @@
+package ui
+
+import (
+	"context"
+	"math"
+	"testing"
+
+	"fyne.io/fyne/v2"
+	"fyne.io/fyne/v2/driver/desktop"
+	"fyne.io/fyne/v2/test"
+
+	"whirlfit/analysis"
+	"whirlfit/dsp"
+)
+
+// fixtureReport is a small, fixed analysis for the golden images: a
+// two-blade rotor whose shaft line steps from 60 to 110 Hz at 1 s with a
+// 50 ms time constant (invented data for a self-consistency picture),
+// drawn by the real STFT but with a hand-made track, so that the images
+// depend on the window's drawing and not on the tracker's tuning.
+func fixtureReport(t testing.TB) *analysis.Report {
+	const (
+		fs     = 4000.0 // Hz
+		durS   = 2.0
+		f0, f1 = 60.0, 110.0 // shaft Hz before and after
+		stepS  = 1.0
+		tauS   = 0.05
+		blades = 2
+	)
+	shaft := func(tS float64) float64 {
+		if tS < stepS {
+			return f0
+		}
+		return f1 + (f0-f1)*math.Exp(-(tS-stepS)/tauS)
+	}
+	n := int(fs * durS)
+	x := make([]float32, n)
+	var ph float64
+	for i := range x {
+		f := shaft(float64(i) / fs)
+		ph += 2 * math.Pi * f / fs
+		x[i] = float32(0.2*math.Sin(ph) + 0.5*math.Sin(blades*ph) + 0.1*math.Sin(2*blades*ph))
+	}
+	spec, err := dsp.ComputeSpectrogram(context.Background(), x, fs, dsp.STFTConfig{FrameLen: 256, Hop: 32, Workers: 1}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tr := &analysis.Track{Blades: blades}
+	for i := 0; i < spec.Frames; i++ {
+		ts := spec.FrameTimeS(i)
+		tr.TimeS = append(tr.TimeS, ts)
+		tr.ShaftHz = append(tr.ShaftHz, shaft(ts))
+	}
+	cmd := stepS - 0.01
+	return &analysis.Report{
+		File: "fixture", Blades: blades, SampleRateHz: fs, DurationS: durS,
+		Spectrogram: spec, Track: tr,
+		Steps: []analysis.StepResult{{
+			Direction: analysis.Up, CommandS: &cmd, ResponseStartS: stepS,
+			DeadTimeS: &analysis.Estimate{Value: 0.01, CI95: [2]float64{0.008, 0.012}},
+			TauS:      analysis.Estimate{Value: tauS, CI95: [2]float64{0.048, 0.052}},
+			RPMBefore: analysis.Estimate{Value: analysis.RPM(f0), CI95: [2]float64{3590, 3610}},
+			RPMAfter:  analysis.Estimate{Value: analysis.RPM(f1), CI95: [2]float64{6580, 6620}},
+			DeltaRPM:  analysis.Estimate{Value: analysis.RPM(f1 - f0), CI95: [2]float64{2980, 3020}},
+			R2:        0.999, Warnings: []string{"invented fixture"},
+		}},
+		Warnings: []string{},
+	}
+}
+
+// Golden images of the plot in both modes at a fixed size, with a marker.
+// On a mismatch Fyne writes the new image to testdata/failed/; review it
+// and copy it over the master to accept a deliberate change.
+func TestSpectrogramViewGolden(t *testing.T) {
+	test.NewTempApp(t)
+	rep := fixtureReport(t)
+	v := NewSpectrogramView()
+	v.SetData(rep, nil, false)
+	v.SetMarkers([]float64{0.99}, 0)
+	v.Resize(fyne.NewSize(640, 360))
+	test.AssertObjectRendersToImage(t, "spectrogram/spectrogram.png", v)
+	v.SetMode(modeRPM)
+	test.AssertObjectRendersToImage(t, "spectrogram/rpm.png", v)
+
+	// Zoom and pan change the view and so the image; a pointer move does
+	// not re-render (the cached image is returned).
+	v.SetMode(modeSpectrogram)
+	before := v.Viewport()
+	v.Zoom(1/zoomStep, true)
+	v.Pan(0.1, 0)
+	after := v.Viewport()
+	if !(after.T1-after.T0 < before.T1-before.T0) || !(after.F1-after.F0 < before.F1-before.F0) {
+		t.Errorf("zoom in: view %+v → %+v, want a narrower time and frequency span", before, after)
+	}
+	img1 := v.draw(320, 180)
+	v.MouseMoved(pointerAt(100, 100))
+	if img2 := v.draw(320, 180); img2 != img1 {
+		t.Error("pointer move re-rendered the plot image")
+	}
+	v.Select(0.9, 1.2, 50, 300)
+	if !v.ZoomToSelection() {
+		t.Fatal("zoom to selection: no selection")
+	}
+	if got := v.Viewport(); math.Abs(got.T0-0.9) > 1e-9 || math.Abs(got.T1-1.2) > 1e-9 || math.Abs(got.F0-50) > 1e-9 || math.Abs(got.F1-300) > 1e-9 {
+		t.Errorf("zoom to selection: got t [%g, %g] f [%g, %g], want t [0.9, 1.2] f [50, 300]", got.T0, got.T1, got.F0, got.F1)
+	}
+}
+
+// Markup golden of the results table for the fixture's one step.
+func TestResultsTableGolden(t *testing.T) {
+	test.NewTempApp(t)
+	r := newResultsTable(nil)
+	r.set(fixtureReport(t))
+	r.table.Resize(fyne.NewSize(900, 140))
+	test.AssertObjectRendersToMarkup(t, "results/table.xml", r.table)
+	if got, want := r.cell(1, 5), "50.0 [48.0, 52.0]"; got != want {
+		t.Errorf("τ cell: got %q, want %q", got, want)
+	}
+}
+
+func pointerAt(x, y float32) *desktop.MouseEvent {
+	return &desktop.MouseEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x, y)}}
+}
