@@ -103,7 +103,7 @@ func ReadSpectrumPeaks(peaks []dsp.Peak, blades int, minHz, maxHz float64) Spect
 	}
 	// Refine: least squares of f_h = h·f0 over the assigned lines, weighted
 	// by h (higher orders pin f0 more finely), over the lines within
-// spectrumFitRangeDB of the strongest.
+	// spectrumFitRangeDB of the strongest.
 	assign := func(f0 float64, p dsp.Peak) int {
 		h := int(math.Round(p.Hz / f0))
 		if h < 1 || math.Abs(p.Hz-float64(h)*f0) > spectrumTol*p.Hz {
