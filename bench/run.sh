@@ -1,0 +1,49 @@
+#!/bin/sh
+# bench/run.sh: time the magnitude STFT of 60 s of 48 kHz mono with
+# whirlfit's dsp package (2 workers and 1), FFTW (float32, one r2c plan,
+# FFTW_MEASURE, single thread) and scipy.signal.stft (Debian python3-scipy,
+# float32 and float64 input), in one run, 5 rounds each; print the medians
+# and the ratios.
+#
+# usage: bench/run.sh            (from anywhere in the repository)
+# needs: go, cc, libfftw3-dev, python3-scipy. Other load on the machine
+# distorts the figures: the script prints the load average before and after.
+set -eu
+cd "$(dirname "$0")/.."
+ROUNDS=${ROUNDS:-5}
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT INT TERM
+PY=/usr/bin/python3
+[ -x "$PY" ] || PY=python3
+
+cc -O2 -o "$tmp/fftw_stft" bench/fftw_stft.c -lfftw3f -lm
+go test -c -o "$tmp/dsp.test" ./dsp
+echo "load before: $(cat /proc/loadavg)"
+echo "cpu: $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ //'), $(nproc) cores, GOMAXPROCS default"
+: > "$tmp/times"
+for cfg in "1024 128" "4096 512"; do
+	set -- $cfg
+	"$tmp/fftw_stft" "$1" "$2" "$ROUNDS" 2>/dev/null >> "$tmp/times"
+	"$PY" bench/scipy_stft.py "$1" "$2" "$ROUNDS" float32 2>/dev/null >> "$tmp/times"
+	"$PY" bench/scipy_stft.py "$1" "$2" "$ROUNDS" float64 2>/dev/null >> "$tmp/times"
+	for w in 1 2; do
+		"$tmp/dsp.test" -test.run '^$' -test.bench "^BenchmarkSTFT60s/$1-hop$2-workers$w\$" \
+			-test.benchtime 3x -test.count "$ROUNDS" 2>/dev/null |
+			awk -v n="$1" -v h="$2" -v w="$w" '/^BenchmarkSTFT60s/ { printf "go-%dworker %s %s %.6f\n", w, n, h, $3 / 1e9 }' >> "$tmp/times"
+	done
+done
+echo "load after:  $(cat /proc/loadavg)"
+"$PY" - "$tmp/times" <<'PYEOF'
+import statistics, sys
+rows = {}
+for line in open(sys.argv[1]):
+    name, n, hop, sec = line.split()
+    rows.setdefault((n, hop), {}).setdefault(name, []).append(float(sec))
+for (n, hop), d in rows.items():
+    print(f"\n60 s of 48 kHz mono, frame {n}, hop {hop}, magnitudes (median of {len(d['fftw'])} rounds)")
+    med = {k: statistics.median(v) for k, v in d.items()}
+    for k in ["go-2worker", "go-1worker", "fftw", "scipy-float32", "scipy-float64"]:
+        if k in med:
+            print(f"  {k:14s} {med[k]*1e3:8.1f} ms  {60/med[k]:7.0f}x real time"
+                  f"  | go-2worker is {med[k]/med['go-2worker']:.2f}x faster")
+PYEOF
