@@ -90,7 +90,7 @@ type combTable struct {
 // threshold in units of the sum's noise standard deviation.
 const (
 	noiseSD = 0.55
-	voiceZ  = 4
+	voiceZ  = 6
 )
 
 // newCandidateGrid returns log-spaced shaft frequencies from lo to hi with

@@ -513,7 +513,7 @@ func combLevel(z []float32, x float64) float64 {
 
 // poolHarmonics combines per-harmonic shaft estimates est (f_h/h, with
 // standard errors sd, from harmonic orders hs) by inverse variance, after
-// rejecting those further from the weighted median than 4 standard errors
+// rejecting those further from the median than 4 standard errors
 // plus a quarter bin in the line's own frequency (binHz/h in shaft units):
 // a whine or hum line beside a harmonic pulls that harmonic only. It returns
 // the pooled estimate and its standard error, inflated by the scatter when
@@ -532,18 +532,11 @@ func poolHarmonics(est, sd []float64, hs, ord []int, binHz float64) (f, sigma fl
 		}
 		return 0
 	})
-	var wt float64
-	for _, i := range ord {
-		wt += 1 / (sd[i] * sd[i])
-	}
-	var acc float64
-	med := est[ord[0]]
-	for _, i := range ord {
-		acc += 1 / (sd[i] * sd[i])
-		if acc >= wt/2 {
-			med = est[i]
-			break
-		}
+	// The plain (unweighted) median: one strong interfering line beside a
+	// harmonic has the largest weight and must not set the reference.
+	med := est[ord[n/2]]
+	if n%2 == 0 {
+		med = (est[ord[n/2-1]] + est[ord[n/2]]) / 2
 	}
 	keep := func(i int) bool {
 		return math.Abs(est[i]-med) <= 4*sd[i]+0.25*binHz/float64(hs[i])

@@ -1,0 +1,107 @@
+package analysis
+
+import (
+	"context"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"whirlfit/dsp"
+	"whirlfit/dsp/synth"
+)
+
+// BenchmarkTrackSignal tracks 10 s of a 48 kHz recording with steps (both
+// passes, all cores).
+func BenchmarkTrackSignal(b *testing.B) {
+	traj := synth.Steps(200, synth.Step{CommandS: 3, TargetHz: 350, TauS: 0.03}, synth.Step{CommandS: 7, TargetHz: 250, TauS: 0.05})
+	x, err := synth.Render(synth.Scene{SampleRate: 48000, DurationS: 10, Shaft: traj, Rotor: synth.NewRotor(3, 7), SNRdB: 10, Seed: 1})
+	if err != nil {
+		b.Fatal(err)
+	}
+	sig := dsp.Signal{Samples: x, SampleRate: 48000}
+	b.ReportAllocs()
+	b.SetBytes(int64(4 * len(x)))
+	for b.Loop() {
+		if _, _, err := TrackSignal(context.Background(), sig, TrackConfig{Blades: 3}, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkSalienceFrame is the search pass's per-frame work: whitening a
+// 4096-point frame and the salience of every candidate (40–1000 Hz, 0.25 %
+// grid). It must not allocate.
+func BenchmarkSalienceFrame(b *testing.B) {
+	const n = 4096
+	rng := rand.New(rand.NewPCG(1, 1))
+	re, im := make([]float32, n/2+1), make([]float32, n/2+1)
+	for k := range re {
+		re[k], im[k] = float32(rng.NormFloat64()), float32(rng.NormFloat64())
+	}
+	grid := newCandidateGrid(40, 1000, candidateStep)
+	comb := newCombTable(grid, 48000.0/n, len(re), 3, combHarmonics)
+	z := make([]float32, len(re))
+	sal := make([]float32, len(grid))
+	var wh whitener
+	wh.whiten(z, re, im)
+	b.ReportAllocs()
+	for b.Loop() {
+		wh.whiten(z, re, im)
+		comb.salience(sal, z, 0, len(grid))
+	}
+}
+
+func TestSalienceNoAlloc(t *testing.T) {
+	const n = 1024
+	re, im := make([]float32, n/2+1), make([]float32, n/2+1)
+	for k := range re {
+		re[k] = float32(k % 7)
+		im[k] = 1
+	}
+	grid := newCandidateGrid(40, 1000, candidateStep)
+	comb := newCombTable(grid, 16000.0/n, len(re), 2, combHarmonics)
+	z := make([]float32, len(re))
+	sal := make([]float32, len(grid))
+	var wh whitener
+	wh.whiten(z, re, im)
+	if a := testing.AllocsPerRun(20, func() {
+		wh.whiten(z, re, im)
+		comb.salience(sal, z, 0, len(grid))
+	}); a != 0 {
+		t.Errorf("%g allocations per frame, want 0", a)
+	}
+}
+
+// Noise-only statistics behind emptyCost and noiseSD: the value v of one
+// comb position (max of two neighbouring whitened Hann bins, clamped) on
+// white noise.
+func TestWhitenNoiseStatistics(t *testing.T) {
+	const n, fs = 2048, 48000.0
+	rng := rand.New(rand.NewPCG(7, 7))
+	x := make([]float32, 40*n)
+	for i := range x {
+		x[i] = float32(rng.NormFloat64())
+	}
+	var sum, sum2 float64
+	cnt := 0
+	var wh whitener
+	z := make([]float32, n/2+1)
+	err := dsp.STFTConfig{FrameLen: n, Hop: n, FFTLen: n, Workers: 1}.Process(context.Background(), x, fs, func(_, _ int, re, im []float32) {
+		wh.whiten(z, re, im)
+		for b := 20; b+1 < len(z)-20; b += 3 {
+			v := float64(min(max(max(z[b], z[b+1]), 0), zCap))
+			sum += v
+			sum2 += v * v
+			cnt++
+		}
+	}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	mean := sum / float64(cnt)
+	sd := math.Sqrt(sum2/float64(cnt) - mean*mean)
+	t.Logf("noise-only comb position: mean v %.3f nepers, sd %.3f (emptyCost %.2f, noiseSD %.2f), %d positions", mean, sd, emptyCost, noiseSD, cnt)
+	if mean > emptyCost || mean < emptyCost-0.3 || sd > 1.3*noiseSD || sd < 0.7*noiseSD {
+		t.Errorf("noise statistics mean %.3f sd %.3f do not match emptyCost %.2f / noiseSD %.2f", mean, sd, emptyCost, noiseSD)
+	}
+}
