@@ -21,13 +21,12 @@ import (
 
 // analysisFlags are the options every analysing command shares.
 type analysisFlags struct {
-	blades    int
-	stepAt    string
-	channel   string
-	trigger   int
-	workers   int
-	quiet     bool
-	stepTimes []float64
+	blades  int
+	stepAt  string
+	channel string
+	trigger int
+	workers int
+	quiet   bool
 }
 
 func (a *analysisFlags) register(fs *flag.FlagSet) {

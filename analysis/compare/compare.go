@@ -228,5 +228,9 @@ func FormatPM(e analysis.Estimate, scale float64, unit string) string {
 	dec := max(0, -exp)
 	q := math.Pow(10, float64(exp))
 	u = math.Round(u/q) * q
-	return strings.TrimSpace(fmt.Sprintf("%.*f ± %.*f %s", dec, math.Round(v/q)*q, dec, u, unit))
+	r := math.Round(v/q) * q
+	if r == 0 {
+		r = 0 // no "-0"
+	}
+	return strings.TrimSpace(fmt.Sprintf("%.*f ± %.*f %s", dec, r, dec, u, unit))
 }

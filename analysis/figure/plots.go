@@ -14,6 +14,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"whirlfit/analysis"
+	"whirlfit/analysis/compare"
 	"whirlfit/dsp"
 )
 
@@ -97,16 +98,10 @@ func TitleBlock(rep *analysis.Report, first string) string {
 	return strings.Join(lines, "\n")
 }
 
-// pm formats an estimate as "v ± u unit" with u the larger distance to an
-// interval end, both to 3 significant digits of the value's scale.
+// pm formats an estimate as "v ± u unit" the way the tables do
+// (compare.FormatPM).
 func pm(e analysis.Estimate, scale float64, unit string) string {
-	v := e.Value * scale
-	u := math.Max(e.Value-e.CI95[0], e.CI95[1]-e.Value) * scale
-	if math.IsNaN(u) || math.IsInf(u, 0) || u <= 0 {
-		return fmt.Sprintf("%.3g %s", v, unit)
-	}
-	dec := max(0, 1-int(math.Floor(math.Log10(u))))
-	return fmt.Sprintf("%.*f ± %.*f %s", dec, v, dec, u, unit)
+	return compare.FormatPM(e, scale, unit)
 }
 
 // SpectrogramPlot builds the spectrogram figure of a report: the
@@ -260,6 +255,10 @@ func rpmPlot(rep *analysis.Report, opt Options, step int, ly *layers) (*plot.Plo
 				l, _ := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}})
 				l.LineStyle = st.line(st.PanelFit, st.LineWidth, false)
 				p.Legend.Add("fit as tracked", l)
+				lt, _ := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}})
+				lt.LineStyle = st.line(st.PanelFit, st.LineWidth*0.6, false)
+				lt.LineStyle.Dashes = []vg.Length{2, 2}
+				p.Legend.Add("fitted model", lt)
 				pb, _ := plotter.NewPolygon(plotter.XYs{{X: 0, Y: 0}})
 				pb.Color, pb.LineStyle.Width = st.PanelBand, 0
 				p.Legend.Add("95 % band", pb)

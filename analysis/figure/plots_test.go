@@ -240,7 +240,7 @@ func TestSaveFormats(t *testing.T) {
 func TestTitleBlock(t *testing.T) {
 	rep := fixtureReport("a.wav", 1, 0.040)
 	got := TitleBlock(rep, "")
-	want := "a.wav\n2 blades\nup at 1.00 s: τ = 40.0 ± 2.4 ms, θ = 10.0 ± 1.2 ms\ndown at 2.00 s: τ = 60.0 ± 4.0 ms, θ = 12.0 ± 1.5 ms"
+	want := "a.wav\n2 blades\nup at 1.00 s: τ = 40 ± 2 ms, θ = 10.0 ± 1.2 ms\ndown at 2.00 s: τ = 60 ± 4 ms, θ = 12.0 ± 1.5 ms"
 	if got != want {
 		t.Errorf("title\n%s\nwant\n%s", got, want)
 	}
