@@ -79,22 +79,43 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 	pxT := (v.T1 - v.T0) / float64(w)
 	pxF := (v.F1 - v.F0) / float64(h)
 
+	// Columns outside, rows inside: a column's frames are contiguous bins
+	// in Mag, so this order reads the magnitudes in memory order. Each
+	// row's bins are found once (kept on the stack for up to maxCachedRows
+	// rows).
+	var rows [maxCachedRows]cellSpan
+	rowSpan := func(y int) cellSpan {
+		fb := v.F1 - float64(y+1)*pxF
+		k0, k1, ok := cellRange(fb, fb+pxF, 0, df, s.Bins)
+		return cellSpan{int32(k0), int32(k1), ok}
+	}
+	cached := h <= maxCachedRows
+	if cached {
+		for y := 0; y < h; y++ {
+			rows[y] = rowSpan(y)
+		}
+	}
+	stride := dst.Stride
 	for x := 0; x < w; x++ {
 		ta := v.T0 + float64(x)*pxT
 		f0, f1, okT := cellRange(ta, ta+pxT, tc0, dt, s.Frames)
+		off := dst.PixOffset(b.Min.X+x, b.Min.Y)
 		for y := 0; y < h; y++ {
-			off := dst.PixOffset(b.Min.X+x, b.Min.Y+y)
-			px := dst.Pix[off : off+4 : off+4]
-			fb := v.F1 - float64(y+1)*pxF
-			k0, k1, okF := cellRange(fb, fb+pxF, 0, df, s.Bins)
-			if !okT || !okF {
+			var cs cellSpan
+			if cached {
+				cs = rows[y]
+			} else {
+				cs = rowSpan(y)
+			}
+			px := dst.Pix[off+y*stride : off+y*stride+4 : off+y*stride+4]
+			if !okT || !cs.ok {
 				px[0], px[1], px[2], px[3] = OutsideColor.R, OutsideColor.G, OutsideColor.B, OutsideColor.A
 				continue
 			}
 			var m float32
+			k0, k1 := int(cs.i0), int(cs.i1)
 			for fr := f0; fr < f1; fr++ {
-				row := s.Mag[fr*s.Bins+k0 : fr*s.Bins+k1]
-				for _, val := range row {
+				for _, val := range s.Mag[fr*s.Bins+k0 : fr*s.Bins+k1] {
 					if val > m {
 						m = val
 					}
@@ -114,6 +135,19 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 			px[0], px[1], px[2], px[3] = c.R, c.G, c.B, c.A
 		}
 	}
+}
+
+// maxCachedRows bounds the per-row table RenderSpectrogram keeps on the
+// stack (48 KB); taller images compute each row's bins per pixel.
+const maxCachedRows = 4096
+
+// maxCachedCols bounds the per-column table RenderSpectrogram keeps on the
+// stack (48 KB); wider images compute each column's frames per pixel.
+const maxCachedCols = 4096
+
+type cellSpan struct {
+	i0, i1 int32
+	ok     bool
 }
 
 // cellRange returns the cells [i0, i1) of a grid with centres c0 + i·step

@@ -144,3 +144,29 @@ func BenchmarkRenderSpectrogram(b *testing.B) {
 		})
 	}
 }
+
+// Images taller than the row table take the uncached path: same pixels.
+func TestRenderSpectrogramTall(t *testing.T) {
+	s := lineSpectrogram(50, 1025, 100)
+	v := DefaultView(s, 2, nil)
+	tall := image.NewRGBA(image.Rect(0, 0, 3, maxCachedRows+10))
+	RenderSpectrogram(tall, s, v)
+	short := image.NewRGBA(image.Rect(0, 0, 3, maxCachedRows+10))
+	// Same view drawn in two halves of rows each under the limit.
+	top := short.SubImage(image.Rect(0, 0, 3, 2048)).(*image.RGBA)
+	bot := short.SubImage(image.Rect(0, 2048, 3, maxCachedRows+10)).(*image.RGBA)
+	split := v.F1 - (v.F1-v.F0)*2048/float64(maxCachedRows+10)
+	vt, vb := v, v
+	vt.F0, vb.F1 = split, split
+	RenderSpectrogram(top, s, vt)
+	RenderSpectrogram(bot, s, vb)
+	diff := 0
+	for y := 0; y < maxCachedRows+10; y++ {
+		if tall.RGBAAt(1, y) != short.RGBAAt(1, y) {
+			diff++
+		}
+	}
+	if diff > 2 { // rounding at the seam
+		t.Errorf("%d rows differ between the cached and uncached paths", diff)
+	}
+}
