@@ -99,6 +99,23 @@ func (k *fopdtKernel) sdS() float64 {
 	return math.Sqrt(math.Max(m2-m*m, 0))
 }
 
+// riseS returns the time the seen curve of an instantaneous step takes to
+// go from 10 % to 90 %: the kernel's 10–90 % width. No track transition can
+// be sharper than this.
+func (k *fopdtKernel) riseS() float64 {
+	at := func(q float64) float64 {
+		c := 0.0
+		for j, w := range k.w {
+			if c+w >= q {
+				return k.a[j] + (q-c)/w*(k.b[j]-k.a[j])
+			}
+			c += w
+		}
+		return k.right
+	}
+	return at(0.9) - at(0.1)
+}
+
 // fopdtTau caches what depends on τ alone.
 type fopdtTau struct {
 	tau  float64

@@ -15,8 +15,8 @@ import (
 // errors are correlated over about one window length; the textbook Wald
 // covariance s²(JᵀJ)⁻¹ then understates the uncertainty several times over.
 // corrCovariance estimates the residual autocorrelation ρ_k from the fit
-// itself, truncated (with a linear taper) a little beyond the window length,
-// forms the stationary error covariance Σ = c·R(ρ) and returns the sandwich
+// itself (up to its first non-positive value, and never below what the
+// overlap of analysis windows alone imposes), forms the stationary error covariance Σ = c·R(ρ) and returns the sandwich
 //
 //	Cov = (JᵀJ)⁻¹ JᵀΣJ (JᵀJ)⁻¹,
 //
@@ -46,8 +46,7 @@ type corrCov struct {
 
 // corrCovariance computes the correlated-error covariance of the free
 // parameters. idx holds each residual's index on the uniform frame grid
-// (gaps allowed); maxLag is the lag in frames beyond which errors are taken
-// as uncorrelated (the taper runs from maxLag/2 to maxLag). floor, when
+// (gaps allowed); maxLag bounds the lags (in frames) considered. floor, when
 // given, is a lower bound on ρ_k per lag: the correlation that overlapping
 // analysis windows impose by themselves (kernelAutocorr).
 func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor []float64) (*corrCov, error) {
@@ -58,7 +57,7 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 	if maxLag < 1 {
 		maxLag = 1
 	}
-	maxLag = min(maxLag, n/3)
+	maxLag = min(maxLag, n/4)
 	inv, err := InverseNormal(J)
 	if err != nil {
 		return nil, err
@@ -92,29 +91,22 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 	if !(gamma[0] > 0) {
 		return nil, errors.New("analysis: residuals are all zero; no interval")
 	}
+	// Keep the initial positive sequence: past the first non-positive
+	// value the estimates are mostly the fit's own imprint (residuals of a
+	// fitted curve swing negative) and noise (as in Geyer's
+	// initial-sequence estimators of a long-run variance; from memory).
 	rho := make([]float64, maxLag+1)
-	half := float64(maxLag) / 2
-	cut := false
 	for k := range rho {
-		taper := 1.0
-		if float64(k) > half {
-			taper = (float64(maxLag) + 1 - float64(k)) / (float64(maxLag) + 1 - half)
-		}
 		r := gamma[k] / gamma[0]
-		// Past the first non-positive value the estimates are mostly the
-		// fit's own imprint (residuals of a fitted curve swing negative);
-		// keep only the initial positive sequence (as in Geyer's
-		// initial-sequence estimators of a long-run variance; from memory).
 		if r <= 0 {
-			cut = true
+			break
 		}
-		if cut {
-			r = 0
-		}
+		rho[k] = r
+	}
+	for k := range rho {
 		if floor != nil && k < len(floor) {
-			r = math.Max(r, floor[k])
+			rho[k] = math.Max(rho[k], floor[k])
 		}
-		rho[k] = r * taper
 	}
 	// M = JᵀRJ with R_ij = ρ_|idx_i − idx_j|.
 	M := mat.NewSymDense(np, nil)

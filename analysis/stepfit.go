@@ -261,8 +261,15 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 	if out.J == nil {
 		return nil, errors.New("analysis: the step fit did not converge")
 	}
+	d.finish(out)
+	return out, nil
+}
+
+// finish fills the residuals and total sum of squares of a solution.
+func (d *stepData) finish(out *stepFitOut) {
+	n := d.n()
 	out.resid = make([]float64, n)
-	d.model(out.resid, nil, &out.p, free)
+	d.model(out.resid, nil, &out.p, out.free)
 	var sw2, swy float64
 	for i := range out.resid {
 		out.resid[i] = d.sw[i]*d.y[i] - out.resid[i]
@@ -270,10 +277,29 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 		swy += d.sw[i] * d.sw[i] * d.y[i]
 	}
 	mean := swy / sw2
+	out.tss = 0
 	for i := range d.y {
 		v := d.sw[i] * (d.y[i] - mean)
 		out.tss += v * v
 	}
+}
+
+// refit polishes a previous solution on changed data (a few samples left
+// out) without repeating the profile search.
+func (d *stepData) refit(prev *stepFitOut, o stepFitOpts) (*stepFitOut, error) {
+	if d.n() <= len(prev.free)+2 {
+		return nil, errNoFit
+	}
+	lower, upper := fitBounds(d, o, prev.free)
+	res, J, err := d.polish(prev.p, prev.free, lower, upper)
+	if err != nil && !errors.Is(err, ErrNoProgress) {
+		return nil, err
+	}
+	out := &stepFitOut{p: prev.p, free: prev.free, J: J, rss: res.RSS, lm: res, smith: prev.smith}
+	for c, q := range prev.free {
+		out.p[q] = res.P[c]
+	}
+	d.finish(out)
 	return out, nil
 }
 

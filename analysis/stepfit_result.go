@@ -3,6 +3,7 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"sort"
 )
 
 // StepFit is a fitted step: enough to redraw its model and 95 % band.
@@ -74,28 +75,43 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if d.n() < 8 {
 		return nil, errNoFit
 	}
+	nSeen := d.n()
+	nOut := despike(d)
 	fit, err := fitFOPDT(d, opts)
 	if err != nil {
 		return nil, err
 	}
 	// Second pass: keep the settled stretch to a dozen time constants (a
-	// long plateau adds drift, not information about τ), and drop gross
-	// outliers (tracker glitches) beyond 6 robust standard deviations.
+	// long plateau adds drift, not information about τ), and leave out
+	// samples the fit shows to be gross outliers (a tracker's harmonic
+	// confusions), refitting until none is left.
 	tau := math.Exp(fit.p[parLnTau])
 	to := math.Min(p.toS, fit.p[parT0]+math.Max(postWindowTaus*tau, minPostWindowS))
 	d2 := stepDataFrom(tr, k, hop, p.fromS, to)
-	nOut := dropOutliers(d2, fit)
-	if nOut > 0 || d2.n() < d.n() {
-		if d2.n() >= 8 {
-			if f2, err := fitFOPDT(d2, opts); err == nil {
-				fit, d = f2, d2
-				p.toS = to
-			}
+	nSeen = d2.n()
+	nOut = despike(d2)
+	if d2.n() >= 8 {
+		if f2, err := fitFOPDT(d2, opts); err == nil {
+			fit, d = f2, d2
+			p.toS = to
+		}
+	}
+	for iter := 0; iter < 4; iter++ {
+		dropped := dropOutliers(d, fit, nSeen/4-nOut)
+		if dropped == 0 {
+			break
+		}
+		nOut += dropped
+		if fit, err = d.refit(fit, opts); err != nil {
+			return nil, err
 		}
 	}
 
 	free := fit.free
-	maxLag := int(math.Ceil(1.5*k.spanS()/hop)) + 2
+	// Correlation is looked for up to four window lengths (a tracker's own
+	// smoothing and the rotor's speed wobble may reach beyond one).
+	winLag := int(math.Ceil(k.spanS()/hop)) + 1
+	maxLag := max(4*winLag, 24)
 	cc, err := corrCovariance(fit.J, fit.resid, d.idx, maxLag, kernelAutocorr(tr.Kernel, tr.KernelDtS, hop, maxLag))
 	if err != nil {
 		return nil, err
@@ -119,7 +135,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if cfg.Bootstrap > 0 {
 		lower, upper := fitBounds(d, opts, free)
 		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
-		bs := blockBootstrap(d, fit, lower, upper, maxLag, cfg.Bootstrap, scale, cfg.Seed^(stepNo*0x9e3779b97f4a7c15))
+		bs := blockBootstrap(d, fit, lower, upper, 2*winLag, cfg.Bootstrap, scale, cfg.Seed^(stepNo*0x9e3779b97f4a7c15))
 		if bs != nil {
 			for c, q := range free {
 				switch q {
@@ -208,8 +224,8 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if st := fit.smith[0]; !math.IsNaN(st) && tau > 3*k.sdS() && (st > 1.6*tau || st < tau/1.6) {
 		notes = append(notes, fmt.Sprintf("the two-point estimate (Smith: 28.3 %%/63.2 %%) gives τ = %.4g s against the fitted %.4g s; check the step's shape", st, tau))
 	}
-	if nOut > 0 {
-		notes = append(notes, fmt.Sprintf("%d outlying track sample(s) left out of the fit", nOut))
+	if nOut > nSeen/20 {
+		notes = append(notes, fmt.Sprintf("%d of %d track samples left out of the fit as outliers", nOut, nSeen))
 	}
 	if notes == nil {
 		notes = []string{}
@@ -241,36 +257,85 @@ func fitBounds(d *stepData, o stepFitOpts, free []int) (lower, upper []float64) 
 	return lower, upper
 }
 
-// dropOutliers removes from d the samples whose residual under fit (when
-// the sample is also in fit's data, matched by time) exceeds 6 robust
-// standard deviations, at most 5 % of them. It returns how many went.
-func dropOutliers(d *stepData, fit *stepFitOut) int {
+// outlierK is the residual, in robust standard deviations, beyond which a
+// track sample counts as a gross outlier.
+const outlierK = 8
+
+// dropOutliers removes from d the samples whose weighted residual under fit
+// lies beyond outlierK robust standard deviations (1.4826·MAD), the worst
+// first and at most limit of them. It returns how many went.
+func dropOutliers(d *stepData, fit *stepFitOut, limit int) int {
+	if limit <= 0 || d.n() != len(fit.resid) {
+		return 0
+	}
 	m := make([]float64, d.n())
 	d.model(m, nil, &fit.p, fit.free)
 	r := make([]float64, d.n())
-	abs := make([]float64, d.n())
 	for i := range r {
 		r[i] = d.sw[i]*d.y[i] - m[i]
 	}
-	med := median(r)
-	for i := range r {
-		abs[i] = math.Abs(r[i] - med)
+	return d.dropBeyond(r, limit)
+}
+
+// despike removes samples that stand out from the running median of five
+// neighbours (in sample order) by more than outlierK robust standard
+// deviations of that difference, at most a quarter of them. A monotone
+// stretch, however steep, is its own running median, so a fast transition
+// is never touched. It returns how many went.
+func despike(d *stepData) int {
+	n := d.n()
+	if n < 8 {
+		return 0
+	}
+	e := make([]float64, n)
+	win := make([]float64, 0, 5)
+	for i := range e {
+		win = win[:0]
+		for j := max(0, i-2); j <= min(n-1, i+2); j++ {
+			win = append(win, d.y[j])
+		}
+		e[i] = d.sw[i] * (d.y[i] - median(win))
+	}
+	return d.dropBeyond(e, n/4)
+}
+
+// dropBeyond removes the samples whose e lies beyond outlierK·1.4826·MAD(e)
+// from the median of e, the largest first, at most limit.
+func (d *stepData) dropBeyond(e []float64, limit int) int {
+	med := median(e)
+	abs := make([]float64, len(e))
+	for i := range e {
+		abs[i] = math.Abs(e[i] - med)
 	}
 	mad := 1.4826 * median(abs)
 	if !(mad > 0) {
 		return 0
 	}
-	limit := d.n() / 20
+	var bad []int
+	for i, a := range abs {
+		if a > outlierK*mad {
+			bad = append(bad, i)
+		}
+	}
+	if len(bad) > limit {
+		sort.Slice(bad, func(a, b int) bool { return abs[bad[a]] > abs[bad[b]] })
+		bad = bad[:max(limit, 0)]
+	}
+	if len(bad) == 0 {
+		return 0
+	}
+	drop := make([]bool, len(e))
+	for _, i := range bad {
+		drop[i] = true
+	}
 	keep := 0
-	dropped := 0
-	for i := range r {
-		if abs[i] > 6*mad && dropped < limit {
-			dropped++
+	for i := range e {
+		if drop[i] {
 			continue
 		}
 		d.t[keep], d.y[keep], d.sw[keep], d.idx[keep] = d.t[i], d.y[i], d.sw[i], d.idx[i]
 		keep++
 	}
 	d.t, d.y, d.sw, d.idx = d.t[:keep], d.y[:keep], d.sw[:keep], d.idx[:keep]
-	return dropped
+	return len(bad)
 }

@@ -20,7 +20,7 @@ type StepConfig struct {
 	// Seed seeds the bootstrap (0 is a valid seed).
 	Seed uint64
 	// MinChangeFraction is the smallest speed change, as a fraction of the
-	// speed before it, that detection reports as a step (default 0.03).
+	// speed before it, that detection reports as a step (default 0.05).
 	MinChangeFraction float64
 	// MaxRiseS is the longest 10–90 % transition that detection still
 	// calls a step; slower changes are ramps (default 0.6 s).
@@ -32,7 +32,7 @@ func (c StepConfig) withDefaults() StepConfig {
 		c.Bootstrap = 200
 	}
 	if c.MinChangeFraction <= 0 {
-		c.MinChangeFraction = 0.03
+		c.MinChangeFraction = 0.05
 	}
 	if c.MaxRiseS <= 0 {
 		c.MaxRiseS = 0.6
@@ -93,14 +93,47 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 	for i := range plans {
 		res, err := fitPlan(tr, &k, hop, &plans[i], cfg, uint64(i))
 		if err != nil {
-			warns = append(warns, fmt.Sprintf("step near %.3f s not fitted: %v", plans[i].anchor(), err))
+			if plans[i].hasCommand() {
+				warns = append(warns, fmt.Sprintf("step at %.3f s not fitted: %v", plans[i].anchor(), err))
+			}
 			continue
+		}
+		if !plans[i].hasCommand() {
+			if why := notAStep(res, cfg); why != "" {
+				warns = append(warns, fmt.Sprintf("a change near %.2f s was not taken as a step: %s", res.ResponseStartS, why))
+				continue
+			}
 		}
 		out = append(out, *res)
 	}
 	sort.SliceStable(out, func(a, b int) bool { return out[a].ResponseStartS < out[b].ResponseStartS })
 	return out, warns
 }
+
+// notAStep says why a detected change, once fitted, is not reported as a
+// throttle step ("" when it is one): the first-order model must describe
+// it, with a time constant below the top of the search range, and the
+// change must be significant, large enough and fast enough. (A time
+// constant far below the window's resolution is still a step.)
+func notAStep(r *StepResult, cfg StepConfig) string {
+	level := math.Max(math.Abs(r.RPMBefore.Value), math.Abs(r.RPMAfter.Value))
+	switch {
+	case r.R2 < detectMinR2:
+		return fmt.Sprintf("a first-order step does not describe it (R² = %.2f)", r.R2)
+	case r.TauS.Value >= tauMaxS*0.999:
+		return "its time constant ran to the limit of the search"
+	case math.Abs(r.DeltaRPM.Value) < cfg.MinChangeFraction*level:
+		return fmt.Sprintf("the change of %.0f rpm is below %.0f %% of the speed", math.Abs(r.DeltaRPM.Value), 100*cfg.MinChangeFraction)
+	case r.DeltaRPM.CI95[0] <= 0 && r.DeltaRPM.CI95[1] >= 0:
+		return "the change is not significant"
+	case r.Rise1090S.Value > cfg.MaxRiseS:
+		return fmt.Sprintf("it rises too slowly for a step (10–90 %% in %.2f s)", r.Rise1090S.Value)
+	}
+	return ""
+}
+
+// detectMinR2 is the smallest R² of a detected step's fit.
+const detectMinR2 = 0.9
 
 // stepPlan is a step to fit: where its onset may lie and which stretch of
 // the track belongs to it.
@@ -110,6 +143,9 @@ type stepPlan struct {
 	fromS, toS       float64
 	standstill       bool // starts from standstill: r0 = 0
 	notes            []string
+	// Detection only: the direction and the time the track reached 90 %.
+	up  bool
+	t90 float64
 }
 
 func (p *stepPlan) anchor() float64 {

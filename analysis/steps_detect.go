@@ -95,10 +95,24 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		b := windowMedian(y, first+W, first+2*W)
 		if !math.IsNaN(a) && !math.IsNaN(b) && b-a > math.Max(detectNoiseK*sigma, cfg.MinChangeFraction*b) {
 			t1 := tr.TimeS[first]
-			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true,
+			// Where the spin-up reaches 90 % of the speed it settles at
+			// (taken 0.5–0.7 s after the motor appears, or earlier when
+			// the track ends first).
+			t90 := t1 + 0.5
+			settle := windowMedian(y, first+int(0.5/hop), first+int(0.7/hop))
+			if math.IsNaN(settle) {
+				settle = windowMedian(y, first+2*W, first+4*W)
+			}
+			for i := first; i < n && !math.IsNaN(settle); i++ {
+				if !math.IsNaN(y[i]) && y[i] >= 0.9*settle {
+					t90 = tr.TimeS[i]
+					break
+				}
+			}
+			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true, up: true, t90: t90,
 				notes: []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}})
 			// Drop candidates inside this spin-up.
-			for len(cands) > 0 && tr.TimeS[cands[0]] < t1+0.1 {
+			for len(cands) > 0 && tr.TimeS[cands[0]] < t1+0.05 {
 				cands = cands[1:]
 			}
 		}
@@ -151,7 +165,13 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		if math.IsNaN(t10) || math.IsNaN(t90) {
 			continue
 		}
-		if rise := t90 - t10; rise > cfg.MaxRiseS+k.spanS() {
+		if rise := t90 - t10; rise < 0.6*k.riseS() {
+			// Sharper than the analysis window can show any change of
+			// speed: the tracker jumped (to another line), the rotor did
+			// not.
+			warns = append(warns, fmt.Sprintf("the track jumps by %.0f rpm near %.2f s faster than the analysis window allows; taken as a tracking error, not a step", RPM(bestChange), tr.TimeS[c]))
+			continue
+		} else if rise > cfg.MaxRiseS+k.spanS() {
 			warns = append(warns, fmt.Sprintf("a slow change of %.0f rpm near %.2f s (10–90 %% in %.2f s) looks like a ramp, not a step; not fitted", RPM(bestChange), tr.TimeS[c], rise))
 			continue
 		}
@@ -159,14 +179,20 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		// onset; the window smears it earlier by up to half its span.
 		onset := t10
 		plans = append(plans, stepPlan{commandS: math.NaN(),
-			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop})
+			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop,
+			up: bestChange > 0, t90: t90})
 	}
 	sort.Slice(plans, func(a, b int) bool { return plans[a].onsetLo < plans[b].onsetLo })
-	// Merge plans whose onset ranges overlap (one transition seen twice).
+	// Merge plans whose onset ranges overlap (one transition seen twice),
+	// and drop a change in the same direction that starts before the
+	// previous one has reached 90 % (a glitch splitting one transition).
 	var merged []stepPlan
 	for _, p := range plans {
-		if m := len(merged); m > 0 && p.onsetLo < merged[m-1].onsetHi {
-			continue
+		if m := len(merged); m > 0 {
+			q := merged[m-1]
+			if p.onsetLo < q.onsetHi || (p.up == q.up && p.onsetLo+k.spanS()/2 < q.t90) {
+				continue
+			}
 		}
 		merged = append(merged, p)
 	}
