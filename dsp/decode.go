@@ -36,12 +36,23 @@ type decoder struct {
 	ffmpeg  string // path of ffmpeg, "" when absent
 	ffprobe string // path of ffprobe, "" when absent
 	limit   int    // maximum samples over all channels
+	// lookPath asks for ffmpeg and ffprobe to be searched on PATH when
+	// first needed (not for the formats read directly).
+	lookPath bool
 }
 
 func newDecoder() decoder {
-	d := decoder{limit: maxSamples}
-	d.ffmpeg, _ = exec.LookPath("ffmpeg")
-	d.ffprobe, _ = exec.LookPath("ffprobe")
+	return decoder{limit: maxSamples, lookPath: true}
+}
+
+// withTools returns d with the ffmpeg and ffprobe paths filled in from
+// PATH if d asks for it.
+func (d decoder) withTools() decoder {
+	if d.lookPath {
+		d.ffmpeg, _ = exec.LookPath("ffmpeg")
+		d.ffprobe, _ = exec.LookPath("ffprobe")
+		d.lookPath = false
+	}
 	return d
 }
 
@@ -83,6 +94,9 @@ func (d decoder) decode(name string, data []byte, path string) (a *Audio, err er
 	case kindWAV:
 		a, err = decodeWAV(name, data, d.limit)
 		var ue *UnsupportedError
+		if errors.As(err, &ue) && ue.convertible {
+			d = d.withTools()
+		}
 		if errors.As(err, &ue) && ue.convertible && d.ffmpeg != "" {
 			a, err = d.decodeFFmpeg(name, data, path)
 		}
@@ -93,6 +107,7 @@ func (d decoder) decode(name string, data []byte, path string) (a *Audio, err er
 	case kindText:
 		return nil, &FormatError{File: name, Msg: fmt.Sprintf("a text file, not audio (it starts %q)", textStart(data))}
 	default:
+		d = d.withTools()
 		if d.ffmpeg == "" {
 			what := kind.String()
 			if what == "" {

@@ -167,7 +167,7 @@ func TestSoxLossyFiles(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.file, func(t *testing.T) {
-			d := newDecoder()
+			d := newDecoder().withTools()
 			if tt.needFFmpeg && d.ffmpeg == "" {
 				t.Skip("ffmpeg is not on PATH")
 			}
@@ -329,7 +329,7 @@ func TestFFmpegFromMemory(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "ffmpeg -i IN OUT.wav") {
 		t.Errorf("without ffmpeg: got %v, want the conversion hint", err)
 	}
-	d := newDecoder()
+	d := newDecoder().withTools()
 	if d.ffmpeg == "" {
 		t.Skip("ffmpeg is not on PATH")
 	}
