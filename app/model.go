@@ -25,7 +25,7 @@ func runModel(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	af.register(fs)
 	loopHz := fs.Float64("loop-hz", control.DefaultLoopHz, "control-loop rate in `Hz` for the zero-order-hold discrete equivalent")
 	atHz := fs.Float64("at-hz", control.DefaultAtHz, "`frequency` in Hz at which magnitude and phase lag are given")
-	lpfHz := fs.Float64("sensor-lpf-hz", control.DefaultSensorLPFHz, "cut-off in `Hz` of the first-order sensor low-pass 1/(s/ωc + 1); negative leaves it out")
+	lpfHz := fs.Float64("sensor-lpf-hz", control.DefaultSensorLPFHz, "cut-off in `Hz` of the first-order sensor low-pass 1/(s/ωc + 1); 0 or negative leaves it out")
 	throttle := fs.String("throttle", "", "throttle `levels` of the plateaus in time order, comma-separated (one more than the steps, e.g. 0.2,0.5,0.3); without them K = 1 (normalised)")
 	format := fs.String("format", "text", "output `style`: text or json")
 	fs.Usage = func() {
