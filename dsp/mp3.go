@@ -59,18 +59,87 @@ func parseMP3Header(b []byte) (mp3Header, bool) {
 	return h, true
 }
 
+// mp3Gapless reads the Xing/Info frame that encoders put first, and the
+// LAME tag inside it, from the frame at the start of b. It returns how many
+// decoded samples to skip at the start and how many real samples follow
+// (keep < 0 when unknown). Layout: the "Xing"/"Info" header follows the side
+// information; the LAME extension follows the optional Xing fields, with
+// the encoder delay and padding as two 12-bit numbers at its byte 21
+// (LAME's "Mp3 Info Tag rev 1" specification).
+func mp3Gapless(b []byte, h mp3Header) (skip, keep int, ok bool) {
+	if len(b) < 4 {
+		return 0, -1, false
+	}
+	mpeg1 := b[1]>>3&3 == 3
+	side := 32
+	switch {
+	case mpeg1 && h.channels == 1, !mpeg1 && h.channels == 2:
+		side = 17
+	case !mpeg1:
+		side = 9
+	}
+	samplesPerFrame := 1152
+	if !mpeg1 {
+		samplesPerFrame = 576
+	}
+	x := 4 + side
+	if b[1]&1 == 0 { // CRC follows the header
+		x += 2
+	}
+	frame := b[:min(len(b), h.frameLen)]
+	if len(frame) < x+8 || (string(frame[x:x+4]) != "Xing" && string(frame[x:x+4]) != "Info") {
+		return 0, -1, false
+	}
+	flags := binary.BigEndian.Uint32(frame[x+4:])
+	p := x + 8
+	frames := -1
+	if flags&1 != 0 {
+		if len(frame) < p+4 {
+			return 0, -1, false
+		}
+		frames = int(binary.BigEndian.Uint32(frame[p:]))
+		p += 4
+	}
+	for _, f := range []struct {
+		bit  uint32
+		size int
+	}{{2, 4}, {4, 100}, {8, 4}} {
+		if flags&f.bit != 0 {
+			p += f.size
+		}
+	}
+	// The Xing frame itself decodes to one frame of silence; a standard
+	// Layer III decoder adds 529 samples of delay (common practice, the
+	// figure LAME's documentation uses).
+	const decoderDelay = 529
+	skip, keep = samplesPerFrame+decoderDelay, -1
+	if len(frame) >= p+24 {
+		d := frame[p+21:]
+		delay := int(d[0])<<4 | int(d[1])>>4
+		padding := int(d[1]&0x0F)<<8 | int(d[2])
+		skip += delay
+		if frames > 0 && frames*samplesPerFrame > delay+padding {
+			keep = frames*samplesPerFrame - delay - padding
+		}
+	}
+	return skip, keep, true
+}
+
 // decodeMP3 decodes an MPEG Layer III stream through
 // github.com/hajimehoshi/go-mp3, which always yields 16-bit stereo; a mono
-// stream (by its first frame header) keeps one channel. The decoder's
-// delay and the encoder's padding are not trimmed, so the audio starts with
-// about a thousand samples of near silence. limit bounds the samples over
-// all channels.
+// stream (by its first frame header) keeps one channel. When the stream
+// starts with a Xing/Info frame, that frame, the decoder delay and the
+// encoder delay and padding it records are trimmed, so that sample 0 is the
+// encoder's first input sample; otherwise the decoder's delay remains.
+// limit bounds the samples over all channels.
 func decodeMP3(name string, data []byte, limit int) (a *Audio, err error) {
 	defer recoverDecoder(name, "MP3", &err)
 	nch := 2
+	skip, keep := 0, -1
 	for i := 0; i < min(len(data), 1<<16); i++ {
 		if h, ok := parseMP3Header(data[i:]); ok && mp3Sync(data[i:]) {
 			nch = h.channels
+			skip, keep, _ = mp3Gapless(data[i:], h)
 			break
 		}
 	}
@@ -117,6 +186,15 @@ func decodeMP3(name string, data []byte, limit int) (a *Audio, err error) {
 			}
 			warnings = append(warnings, fmt.Sprintf("damaged MP3 frame after %d samples (%v); kept what came before", len(chans[0]), rerr))
 			break
+		}
+	}
+	if n := len(chans[0]); skip > 0 && n > skip {
+		end := n
+		if keep >= 0 && skip+keep <= n {
+			end = skip + keep
+		}
+		for c := range chans {
+			chans[c] = chans[c][skip:end:end]
 		}
 	}
 	return &Audio{
