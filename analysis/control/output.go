@@ -24,7 +24,11 @@ func (m *Model) WriteText(w io.Writer) error {
 	var b strings.Builder
 	p := func(format string, a ...any) { fmt.Fprintf(&b, format, a...) }
 	rng := func(r Range, scale float64, unit string, prec int) string {
-		return fmt.Sprintf("%.*f %s (95 %% %.*f … %.*f)", prec, r.Value*scale, unit, prec, r.CI95[0]*scale, prec, r.CI95[1]*scale)
+		sep := " "
+		if unit == "°" {
+			sep = ""
+		}
+		return fmt.Sprintf("%.*f%s%s (95 %% %.*f … %.*f)", prec, r.Value*scale, sep, unit, prec, r.CI95[0]*scale, prec, r.CI95[1]*scale)
 	}
 	p("%s\n", m.File)
 	if m.Gain.Normalised {
