@@ -15,6 +15,10 @@ import (
 // expand far beyond their file size, so the bound is checked while decoding.
 const maxSamples = 1 << 28
 
+// maxFileBytes bounds the size of a file read into memory (4 GiB, the
+// largest a RIFF file can be).
+const maxFileBytes = 1 << 32
+
 // DecodeFile reads the audio file at path once and decodes every channel.
 // The format is chosen from the file's first bytes, not its name: RIFF/WAVE,
 // FLAC and MP3 are read directly; anything else goes through ffmpeg when it
@@ -66,6 +70,9 @@ func (d decoder) decodeFile(path string) (*Audio, error) {
 	}
 	if !fi.Mode().IsRegular() && fi.Mode()&fs.ModeNamedPipe == 0 {
 		return nil, fmt.Errorf("%s: not a regular file", path)
+	}
+	if fi.Size() > maxFileBytes {
+		return nil, &UnsupportedError{File: path, Msg: fmt.Sprintf("%d bytes is more than the %d whirlfit reads; cut the recording into parts", fi.Size(), int64(maxFileBytes))}
 	}
 	data, err := os.ReadFile(path)
 	if err != nil {

@@ -389,3 +389,32 @@ func TestParseFFmpegOutput(t *testing.T) {
 		t.Errorf("got %d Hz %d ch, want 44100 Hz 10 ch", rate, ch)
 	}
 }
+
+// TestWAVThroughFFmpeg: a WAV coding whirlfit does not read itself (µ-law)
+// goes to ffmpeg when it is present, else gets a clear error.
+// sox-generated, see testdata/README.md.
+func TestWAVThroughFFmpeg(t *testing.T) {
+	path := filepath.Join(repoTestdata, "sine1k_ulaw.wav")
+	_, err := decoder{limit: maxSamples}.decodeFile(path)
+	if err == nil || !strings.Contains(err.Error(), "µ-law") {
+		t.Errorf("without ffmpeg: got %v, want an error naming µ-law", err)
+	}
+	d := newDecoder().withTools()
+	if d.ffmpeg == "" {
+		t.Skip("ffmpeg is not on PATH")
+	}
+	a, err := d.decodeFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if a.Container != "WAV" || a.Codec != "PCM_MULAW" || a.SampleRate != 8000 || len(a.Channels) != 1 || a.Frames() != 800 {
+		t.Fatalf("got %s/%s %d Hz %d ch %d frames, want WAV/PCM_MULAW 8000 Hz mono 800 frames", a.Container, a.Codec, a.SampleRate, len(a.Channels), a.Frames())
+	}
+	f, amp := fitSine(a.Channels[0], 8000)
+	// µ-law's step near ±0.5 is 1/64 of full scale (ITU-T G.711 segment
+	// 7); the fitted amplitude averages it down to well under 1 %.
+	if math.Abs(f-1000) > 1e-3 || math.Abs(amp-0.5) > 0.005 {
+		t.Errorf("fitted %.5f Hz amplitude %.5f, want 1000 Hz 0.5 ±0.005", f, amp)
+	}
+	t.Logf("µ-law via ffmpeg: %s %s, fit %.5f Hz amplitude %.5f", a.Container, a.Codec, f, amp)
+}

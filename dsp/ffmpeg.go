@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os/exec"
+	"path/filepath"
 	"regexp"
 	"strconv"
 	"strings"
@@ -21,9 +22,15 @@ import (
 // given to ffmpeg so that it can seek (MP4 files may keep their index at
 // the end); otherwise data is fed on stdin.
 func (d decoder) decodeFFmpeg(name string, data []byte, path string) (*Audio, error) {
-	input := path
-	if input == "" {
-		input = "pipe:0"
+	input := "pipe:0"
+	if path != "" {
+		// The file: protocol keeps ffmpeg from reading a name such as
+		// "concat:a|b" or "http://…" as another protocol.
+		abs, err := filepath.Abs(path)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", name, err)
+		}
+		input = "file:" + abs
 	}
 	var info ffprobeInfo
 	haveProbe := false
@@ -119,7 +126,7 @@ func (d decoder) probe(input string, data []byte, stdin bool) (ffprobeInfo, erro
 	cmd.Stderr = stderr
 	out, err := cmd.Output()
 	if err != nil {
-		return ffprobeInfo{}, fmt.Errorf("ffprobe cannot read it: %s", lastLine(stderr.String(), err))
+		return ffprobeInfo{}, fmt.Errorf("not audio that whirlfit or ffmpeg can read (ffprobe: %s)", lastLine(stderr.String(), err))
 	}
 	var r struct {
 		Streams []struct {

@@ -31,6 +31,8 @@ sox -D -r 48000 -n -b 16 sine1k_s16.flac synth 0.1 sine 1000 vol 0.5
 sox -D -r 48000 -n -b 24 sine1k_s24.flac synth 0.1 sine 1000 vol 0.5
 # Ogg Vorbis (read through ffmpeg, not directly).
 sox -D -r 48000 -n sine1k.ogg synth 0.5 sine 1000 vol 0.5
+# µ-law WAV (format tag 7: read through ffmpeg, not directly).
+sox -D -r 8000 -n -e mu-law sine1k_ulaw.wav synth 0.1 sine 1000 vol 0.5
 
 # sox 14.4.2 on Debian cannot write MP3, and it never writes float
 # EXTENSIBLE, so ffmpeg converts sox output for those two.
