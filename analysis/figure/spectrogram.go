@@ -96,10 +96,22 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 		}
 	}
 	stride := dst.Stride
+	prevF0, prevF1, prevOK := -1, -1, false
 	for x := 0; x < w; x++ {
 		ta := v.T0 + float64(x)*pxT
 		f0, f1, okT := cellRange(ta, ta+pxT, tc0, dt, s.Frames)
 		off := dst.PixOffset(b.Min.X+x, b.Min.Y)
+		if x > 0 && f0 == prevF0 && f1 == prevF1 && okT == prevOK {
+			// Zoomed in: the same frames as the previous column.
+			for y := 0; y < h; y++ {
+				p := off + y*stride
+				copy(dst.Pix[p:p+4], dst.Pix[p-4:p])
+			}
+			continue
+		}
+		prevF0, prevF1, prevOK = f0, f1, okT
+		last := cellSpan{i0: -1}
+		var lastC color.RGBA
 		for y := 0; y < h; y++ {
 			var cs cellSpan
 			if cached {
@@ -110,6 +122,11 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 			px := dst.Pix[off+y*stride : off+y*stride+4 : off+y*stride+4]
 			if !okT || !cs.ok {
 				px[0], px[1], px[2], px[3] = OutsideColor.R, OutsideColor.G, OutsideColor.B, OutsideColor.A
+				continue
+			}
+			if cs == last {
+				// Zoomed in: the same bins as the row above.
+				px[0], px[1], px[2], px[3] = lastC.R, lastC.G, lastC.B, lastC.A
 				continue
 			}
 			var m float32
@@ -133,6 +150,7 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 			}
 			c := cmap[lo]
 			px[0], px[1], px[2], px[3] = c.R, c.G, c.B, c.A
+			last, lastC = cs, c
 		}
 	}
 }
