@@ -124,14 +124,40 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		}
 	}
 	half := func(q int) float64 { return tq * math.Sqrt(cov[q][q]) }
+	// Model-error floors, added in quadrature: the noise statistics cannot
+	// see that a track is only approximately the window-averaged speed
+	// (peak picking of a line swept within one frame, reverberation
+	// holding the old speed). On the project's synthesizer these biases
+	// reach a few per cent of τ and about a millisecond of onset at high
+	// signal-to-noise ratio, where the statistical interval alone is far
+	// narrower.
+	withFloor := func(h, floor float64) float64 { return math.Hypot(h, floor) }
+	hLnTau := withFloor(half(parLnTau), tauFloorRel)
+	hT0 := withFloor(half(parT0), onsetFloorS)
+	// Keep the covariance consistent with the floors for derived values
+	// and the band: scale the variances, keep the correlations.
+	for _, q := range []int{parLnTau, parT0} {
+		h := half(q)
+		want := hLnTau
+		if q == parT0 {
+			want = hT0
+		}
+		if h > 0 {
+			f := want / h
+			for b := 0; b < numPar; b++ {
+				cov[q][b] *= f
+				cov[b][q] *= f
+			}
+		}
+	}
 	var notes []string
 	notes = append(notes, p.notes...)
 
 	// Bootstrap cross-check: widen the analytic interval where the
 	// bootstrap's is wider (rarely by much when the analytic one holds).
 	lnTau := fit.p[parLnTau]
-	tauLo, tauHi := math.Exp(lnTau-half(parLnTau)), math.Exp(lnTau+half(parLnTau))
-	t0Lo, t0Hi := fit.p[parT0]-half(parT0), fit.p[parT0]+half(parT0)
+	tauLo, tauHi := math.Exp(lnTau-hLnTau), math.Exp(lnTau+hLnTau)
+	t0Lo, t0Hi := fit.p[parT0]-hT0, fit.p[parT0]+hT0
 	if cfg.Bootstrap > 0 {
 		lower, upper := fitBounds(d, opts, free)
 		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
@@ -237,6 +263,13 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	res.Fit = sf
 	return res, nil
 }
+
+// Floors of the 95 % half-widths for what the noise does not show (see
+// fitPlan): 2 % of τ (on ln τ) and 0.7 ms of onset.
+const (
+	tauFloorRel = 0.02
+	onsetFloorS = 0.0007
+)
 
 // fitBounds mirrors the bounds fitFOPDT gives Levenberg–Marquardt.
 func fitBounds(d *stepData, o stepFitOpts, free []int) (lower, upper []float64) {
