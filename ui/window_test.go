@@ -30,13 +30,15 @@ func applied(w *Window) chan struct{} {
 }
 
 // await waits for n results; the timeout only guards against a hang.
-func await(t testing.TB, ch chan struct{}, n int) {
+func await(t testing.TB, ch chan struct{}, n int) { awaitFor(t, ch, n, 2*time.Minute) }
+
+func awaitFor(t testing.TB, ch chan struct{}, n int, timeout time.Duration) {
 	t.Helper()
 	for i := 0; i < n; i++ {
 		select {
 		case <-ch:
-		case <-time.After(2 * time.Minute):
-			t.Fatalf("no analysis result after 2 minutes (%d of %d)", i, n)
+		case <-time.After(timeout):
+			t.Fatalf("no analysis result after %v (%d of %d)", timeout, i, n)
 		}
 	}
 }
