@@ -162,9 +162,14 @@ func decodeWAV(name string, b []byte, limit int) (*Audio, error) {
 		next := body + int(size)
 		if size&1 == 1 && next < len(b) {
 			// RIFF pads odd chunks to even length, but some writers omit
-			// the pad byte: skip it only when the next byte is not the
-			// start of a chunk ID.
-			if b[next] == 0 || !(next+4 <= len(b) && isChunkID(b[next:next+4])) {
+			// the pad byte (and some write a non-zero one). Skip it unless
+			// a chunk ID starts right here and no known one starts after
+			// it.
+			switch {
+			case next+5 <= len(b) && (isKnownChunkID(b[next+1:next+5]) || string(b[next+1:next+5]) == "data"):
+				next++
+			case b[next] != 0 && next+4 <= len(b) && isChunkID(b[next:next+4]):
+			default:
 				next++
 			}
 		}
