@@ -159,10 +159,6 @@ func RenderSpectrogram(dst *image.RGBA, s *dsp.Spectrogram, v View) {
 // stack (48 KB); taller images compute each row's bins per pixel.
 const maxCachedRows = 4096
 
-// maxCachedCols bounds the per-column table RenderSpectrogram keeps on the
-// stack (48 KB); wider images compute each column's frames per pixel.
-const maxCachedCols = 4096
-
 type cellSpan struct {
 	i0, i1 int32
 	ok     bool
