@@ -29,6 +29,9 @@ type exportKind struct {
 }
 
 var exportKinds = []exportKind{
+	{"rpm track (CSV)", "-rpm.csv", func(w io.Writer, r *analysis.Report) error {
+		return export.WriteTrackCSV(w, r.Track)
+	}},
 	{"Step summary (CSV)", "-steps.csv", func(w io.Writer, r *analysis.Report) error {
 		return export.WriteSummaryCSV(w, []*analysis.Report{r})
 	}},
