@@ -93,3 +93,134 @@ func TestStepFitCoverage(t *testing.T) {
 		t.Errorf("θ coverage %.3f, want 0.90–0.99", covTheta)
 	}
 }
+
+func TestRuleOfThumbT95(t *testing.T) {
+	// Rule of thumb τ = t95/3 (common practice): a shaft step from 280 to
+	// 400 Hz that reaches 95 % of the change 90 ms after it starts has
+	// τ = 30 ms. Invented track seen without smoothing, 1 ms hop, tiny noise.
+	spec := synthTrackSpec{hopS: 0.001, windowS: 0.0015, durS: 1.2, startHz: 280, noiseHz: 0.002,
+		steps: []synthStep{{commandS: 0.5, deadS: 0, tauS: 0.030, toHz: 400}}}
+	tr := spec.track(rand.New(rand.NewPCG(1, 1)))
+	tr.Kernel = nil // a track that sees the speed directly
+	// The time to 95 % of the change on the track itself.
+	var t95 float64
+	for i, v := range tr.ShaftHz {
+		if v >= 280+0.95*120 {
+			t95 = tr.TimeS[i] - 0.5
+			break
+		}
+	}
+	if math.Abs(t95-0.090) > 0.0015 {
+		t.Fatalf("track reaches 95 %% after %.4f s, want 0.090 s", t95)
+	}
+	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.5}, Bootstrap: -1})
+	if len(res) != 1 {
+		t.Fatalf("%d steps, want 1", len(res))
+	}
+	r := res[0]
+	t.Logf("τ = %.5f s, t95 = %.5f s, t95/3 = %.5f s, rpm %.1f → %.1f", r.TauS.Value, r.T95S.Value, r.T95S.Value/3, r.RPMBefore.Value, r.RPMAfter.Value)
+	if math.Abs(r.TauS.Value-0.030) > 0.0003 {
+		t.Errorf("τ = %.5f s, want 0.030 s (t95/3)", r.TauS.Value)
+	}
+	if math.Abs(r.T95S.Value-0.090) > 0.001 {
+		t.Errorf("t95 = %.5f s, want 0.090 s", r.T95S.Value)
+	}
+	if math.Abs(r.RPMBefore.Value-16800) > 1 || math.Abs(r.RPMAfter.Value-24000) > 1 {
+		t.Errorf("rpm %.1f → %.1f, want 16800 → 24000", r.RPMBefore.Value, r.RPMAfter.Value)
+	}
+	if got, want := r.Rise1090S.Value, r.TauS.Value*math.Log(9); math.Abs(got-want) > 1e-12 {
+		t.Errorf("10–90 %% rise %.6f s, want τ·ln 9 = %.6f s", got, want)
+	}
+	if got, want := r.BandwidthHz.Value, 1/(2*math.Pi*r.TauS.Value); math.Abs(got-want) > 1e-9 {
+		t.Errorf("bandwidth %.4f Hz, want 1/(2πτ) = %.4f Hz", got, want)
+	}
+}
+
+func TestSmithTwoPointCrossCheck(t *testing.T) {
+	// Smith (1972) two-point method (C. L. Smith, Digital Computer Process
+	// Control; from memory): τ = 1.5·(t63.2 − t28.3), θ = t63.2 − τ.
+	// On a clean, unsmoothed step it must agree with the fit.
+	for _, c := range []struct{ tau, dead float64 }{{0.04, 0.01}, {0.1, 0.0}, {0.015, 0.02}} {
+		spec := synthTrackSpec{hopS: 0.0005, windowS: 0.00075, durS: 0.5 + 12*c.tau, startHz: 300, noiseHz: 0.001,
+			steps: []synthStep{{commandS: 0.3, deadS: c.dead, tauS: c.tau, toHz: 220}}}
+		tr := spec.track(rand.New(rand.NewPCG(2, 2)))
+		tr.Kernel = nil
+		k := newFOPDTKernel(nil, 0)
+		d := stepDataFrom(tr, &k, trackHop(tr), 0.15, spec.durS)
+		tau, t0, ok := smithTwoPoint(d, stepFitOpts{commandS: 0.3, t0Lo: 0.3, t0Hi: 0.4})
+		if !ok {
+			t.Fatalf("τ %.3f: two-point method found no crossings", c.tau)
+		}
+		t.Logf("τ %.3f s, θ %.3f s: Smith gives τ %.4f s, θ %.4f s", c.tau, c.dead, tau, t0-0.3)
+		if math.Abs(tau/c.tau-1) > 0.02 || math.Abs(t0-0.3-c.dead) > 0.001 {
+			t.Errorf("Smith τ %.4f θ %.4f, want %.4f %.4f", tau, t0-0.3, c.tau, c.dead)
+		}
+	}
+}
+
+func TestWindowAwareFitIsUnbiased(t *testing.T) {
+	// Issue 4: τ down to 5 ms must not be biased by a 20–80 ms window.
+	// Invented tracks, nearly noise-free; the kernel-unaware fit (the same
+	// track with its Kernel removed) shows the bias that is avoided
+	// (methods.md §1.5: τ' ≈ √(τ² + σ²) for a kernel of sd σ, to first order).
+	for _, c := range []struct{ tau, window float64 }{{0.005, 0.08}, {0.005, 0.02}, {0.03, 0.0853}, {0.008, 0.05}} {
+		spec := synthTrackSpec{hopS: 0.004, windowS: c.window, durS: 1.0, startHz: 250, noiseHz: 0.005,
+			steps: []synthStep{{commandS: 0.45, deadS: 0.006, tauS: c.tau, toHz: 330}}}
+		tr := spec.track(rand.New(rand.NewPCG(3, 3)))
+		res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.45}, Bootstrap: -1})
+		naive := *tr
+		naive.Kernel = nil
+		resN, _ := AnalyseSteps(&naive, StepConfig{CommandTimesS: []float64{0.45}, Bootstrap: -1})
+		if len(res) != 1 || len(resN) != 1 {
+			t.Fatalf("got %d and %d steps, want 1 and 1", len(res), len(resN))
+		}
+		r, n := res[0], resN[0]
+		t.Logf("τ %.0f ms, window %.0f ms: window-aware τ %.2f ms θ %.2f ms; unaware τ %.2f ms θ %.2f ms",
+			1e3*c.tau, 1e3*c.window, 1e3*r.TauS.Value, 1e3*r.DeadTimeS.Value, 1e3*n.TauS.Value, 1e3*n.DeadTimeS.Value)
+		if math.Abs(r.TauS.Value/c.tau-1) > 0.03 {
+			t.Errorf("τ %.0f ms, window %.0f ms: fitted %.3f ms, want within 3 %%", 1e3*c.tau, 1e3*c.window, 1e3*r.TauS.Value)
+		}
+		if math.Abs(r.DeadTimeS.Value-0.006) > 0.0005 {
+			t.Errorf("τ %.0f ms, window %.0f ms: θ %.3f ms, want 6 ± 0.5 ms", 1e3*c.tau, 1e3*c.window, 1e3*r.DeadTimeS.Value)
+		}
+	}
+}
+
+func TestStepFitCurves(t *testing.T) {
+	// Self-consistency of what the figures draw: the true curve starts at
+	// r0 at the onset and ends at r0 + Δ; the seen curve is smoother but
+	// has the same ends; the band contains the curve and narrows where the
+	// data pin it down.
+	spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.2, startHz: 300, noiseHz: 0.3,
+		steps: []synthStep{{commandS: 0.4, deadS: 0.008, tauS: 0.03, toHz: 360}}}
+	tr := spec.track(rand.New(rand.NewPCG(5, 5)))
+	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.4}, Bootstrap: -1})
+	if len(res) != 1 || res[0].Fit == nil {
+		t.Fatal("no fit")
+	}
+	f := res[0].Fit
+	if got := f.Model(f.OnsetS); got != f.RPMBefore {
+		t.Errorf("Model(onset) = %g, want r0 = %g", got, f.RPMBefore)
+	}
+	if got, want := f.Model(f.OnsetS+20*f.TauS), f.RPMBefore+f.DeltaRPM; math.Abs(got-want) > 1e-3 {
+		t.Errorf("Model(onset + 20τ) = %g, want %g", got, want)
+	}
+	if got := f.SeenModel(f.OnsetS - 0.1); math.Abs(got-f.RPMBefore) > 1e-9 {
+		t.Errorf("SeenModel well before = %g, want %g", got, f.RPMBefore)
+	}
+	if f.SeenModel(f.OnsetS) <= f.RPMBefore || f.SeenModel(f.OnsetS+f.TauS) >= f.Model(f.OnsetS+f.TauS) {
+		t.Errorf("seen curve not smoothed around the onset: %g at onset, %g vs %g at onset + τ",
+			f.SeenModel(f.OnsetS), f.SeenModel(f.OnsetS+f.TauS), f.Model(f.OnsetS+f.TauS))
+	}
+	ts := []float64{f.FromS, f.OnsetS + f.TauS, f.ToS}
+	lo, hi := f.Band(ts)
+	for i, tt := range ts {
+		m := f.Model(tt)
+		if !(lo[i] < m && m < hi[i]) {
+			t.Errorf("band at %.3f s [%g, %g] does not contain the model %g", tt, lo[i], hi[i], m)
+		}
+	}
+	if f.FromS >= f.OnsetS || f.ToS <= f.OnsetS {
+		t.Errorf("fit interval %.3f–%.3f s does not contain the onset %.3f s", f.FromS, f.ToS, f.OnsetS)
+	}
+}
