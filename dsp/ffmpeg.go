@@ -117,7 +117,7 @@ type ffprobeInfo struct {
 
 func (d decoder) probe(input string, data []byte, stdin bool) (ffprobeInfo, error) {
 	cmd := exec.Command(d.ffprobe, "-v", "error", "-select_streams", "a:0",
-		"-show_entries", "stream=codec_name,sample_rate,channels,bits_per_raw_sample:format=format_name",
+		"-show_entries", "stream=codec_name,sample_rate,channels,bits_per_raw_sample,bits_per_sample:format=format_name",
 		"-of", "json", input)
 	if stdin {
 		cmd.Stdin = bytes.NewReader(data)
@@ -134,6 +134,7 @@ func (d decoder) probe(input string, data []byte, stdin bool) (ffprobeInfo, erro
 			SampleRate string `json:"sample_rate"`
 			Channels   int    `json:"channels"`
 			Bits       string `json:"bits_per_raw_sample"`
+			SampleBits int    `json:"bits_per_sample"`
 		} `json:"streams"`
 		Format struct {
 			FormatName string `json:"format_name"`
@@ -153,6 +154,9 @@ func (d decoder) probe(input string, data []byte, stdin bool) (ffprobeInfo, erro
 	}
 	info.rate, _ = strconv.Atoi(s.SampleRate)
 	info.bits, _ = strconv.Atoi(s.Bits)
+	if info.bits == 0 {
+		info.bits = s.SampleBits // PCM codings report only this
+	}
 	return info, nil
 }
 

@@ -18,9 +18,10 @@ type LevelStats struct {
 	// −3.01 dBFS RMS (no AES17 +3 dB offset). Silence reads SilenceDBFS.
 	PeakDBFS, RMSDBFS float64
 	// Clipped counts samples at full scale: |x| ≥ 1 − 2^−(bits−1), i.e. the
-	// largest positive code or beyond, for integer sources (MP3 counts as
-	// 16-bit, the precision its decoder delivers); |x| ≥ 1.0 for float
-	// sources (IEEE float WAV and anything decoded by ffmpeg).
+	// largest positive code or beyond, for integer sources (WAV PCM, FLAC,
+	// and what ffmpeg reports a bit depth for; MP3 counts as 16-bit, the
+	// precision its decoder delivers); |x| ≥ 1.0 for float sources (IEEE
+	// float WAV) and for lossy codings decoded by ffmpeg (no bit depth).
 	Clipped int
 }
 
@@ -65,11 +66,11 @@ func clipLimit(a *Audio) float32 {
 	switch {
 	case a.Container == "MP3":
 		bits = 16
-	case strings.Contains(a.Codec, "float"), a.Container != "WAV" && a.Container != "FLAC":
+	case strings.Contains(a.Codec, "float"):
 		return 1
 	}
 	if bits < 2 || bits > 32 {
-		return 1
+		return 1 // lossy codings decoded by ffmpeg: float output
 	}
 	return float32(1 - math.Ldexp(1, -(bits-1)))
 }
