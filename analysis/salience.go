@@ -46,7 +46,7 @@ const (
 	// emptyCost is c above: about the expected v of a noise-only position
 	// (measured in TestWhitenNoiseStatistics), so that noise adds nothing
 	// on average and an empty position costs a little.
-	emptyCost = 0.45
+	emptyCost = 0.35
 	// combHarmonics is M above; combDecay the weight ratio.
 	combHarmonics = 6
 	combDecay     = 0.84
@@ -72,24 +72,61 @@ var floorScale = float32(1 / -math.Log(1-floorQuantile))
 type combTable struct {
 	f0      []float64 // candidate shaft frequencies, Hz, increasing
 	logStep float64   // ln(f0[k+1]/f0[k])
-	start   []int32   // harmonics of candidate k: bin[start[k]:start[k+1]]
-	bin     []int32
+	start   []int32   // harmonics of candidate k: pos[start[k]:start[k+1]]
+	pos     []float32 // harmonic position in bins
+	inv     []float32 // 1/(2σ)² of its match tolerance σ, bins⁻²
 	w       []float32
 	// thr is the salience a candidate must exceed to count as a motor:
 	// voiceZ noise standard deviations of its sum.
 	thr   []float32
 	wsum  []float32
 	binHz float64
-	// shaftBin is the bin of the shaft line itself (−1 when the comb is the
-	// shaft comb, blades ≤ 1, or out of range).
-	shaftBin []int32
+	// shaftPos is the position of the shaft line itself in bins (−1 when
+	// the comb is the shaft comb, blades ≤ 1, or out of range), shaftInv
+	// its tolerance.
+	shaftPos, shaftInv []float32
+}
+
+// matchTolerance returns σ, in bins, for a harmonic at position x bins: the
+// larger of matchBins and matchRel·x. A line counts fully when its
+// interpolated peak lies on the position and not at all beyond 2σ.
+func matchTolerance(x float64) float64 { return math.Max(matchBins, matchRel*x) }
+
+const (
+	// matchBins is the least tolerance (bins): the peak interpolation's
+	// error on a weak or moving line. matchRel is the relative tolerance,
+	// about the search grid's half step times 1.6.
+	matchBins = 0.3
+	matchRel  = 0.002
+)
+
+// posValue returns the clamped excess of the line at position x (bins):
+// the best of the interpolated peaks (pk) within 2σ of x, weighted by
+// 1 − (d/2σ)² with d the distance of the peak from x; 0 when no peak is
+// near. inv is 1/(2σ)². x must lie in [1, len(z)−2).
+func posValue(z, pk []float32, x, inv float32) float32 {
+	b0 := int(x + 0.5)
+	var best float32
+	for b := b0 - 1; b <= b0+1; b++ {
+		p := pk[b]
+		if p < 0 {
+			continue
+		}
+		d := p - x
+		u := d * d * inv
+		if u >= 1 {
+			continue
+		}
+		best = max(best, min(z[b], zCap)*(1-u))
+	}
+	return best
 }
 
 // noiseSD is the standard deviation of v for a noise-only position
 // (TestWhitenNoiseStatistics measures it); voiceZ scales the voicing
 // threshold in units of the sum's noise standard deviation.
 const (
-	noiseSD = 0.55
+	noiseSD = 0.42
 	voiceZ  = 6
 )
 
@@ -110,38 +147,42 @@ func newCandidateGrid(lo, hi, rel float64) []float64 {
 // combDecay^(m−1). Harmonics beyond the spectrum are left out.
 func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTable {
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
-		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)), shaftBin: make([]int32, len(f0))}
+		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)),
+		shaftPos: make([]float32, len(f0)), shaftInv: make([]float32, len(f0))}
 	if len(f0) > 1 {
 		t.logStep = math.Log(f0[1] / f0[0])
 	}
 	order = max(order, 1)
 	for k, f := range f0 {
-		t.start[k] = int32(len(t.bin))
+		t.start[k] = int32(len(t.pos))
 		var w2 float64
 		w := 1.0
 		for m := 1; m <= count; m++ {
-			b := int(float64(m*order) * f / binHz)
-			if b+1 >= bins-1 {
+			x := float64(m*order) * f / binHz
+			if x < 1 || int(x+0.5)+1 >= bins {
 				break
 			}
-			t.bin = append(t.bin, int32(b))
+			sg := matchTolerance(x)
+			t.pos = append(t.pos, float32(x))
+			t.inv = append(t.inv, float32(1/(4*sg*sg)))
 			t.w = append(t.w, float32(w))
 			w2 += w * w
 			t.wsum[k] += float32(w)
 			w *= combDecay
 		}
 		t.thr[k] = float32(voiceZ * noiseSD * math.Sqrt(w2))
-		t.shaftBin[k] = -1
-		if b := int(f / binHz); order > 1 && b+1 < bins-1 {
-			t.shaftBin[k] = int32(b)
+		t.shaftPos[k] = -1
+		if x := f / binHz; order > 1 && x >= 1 && int(x+0.5)+1 < bins {
+			sg := matchTolerance(x)
+			t.shaftPos[k], t.shaftInv[k] = float32(x), float32(1/(4*sg*sg))
 		}
 	}
-	t.start[len(f0)] = int32(len(t.bin))
+	t.start[len(f0)] = int32(len(t.pos))
 	return t
 }
 
 // salience writes S(f0[k]) − thr[k] for k in [klo, khi) to dst[k−klo] from
-// the whitened frame z.
+// the whitened frame z and its interpolated peak positions pk (whiten).
 //
 // A comb whose odd harmonics are on average weaker than its even ones by
 // more than oddEvenSlack is one whose true fundamental is half the
@@ -150,15 +191,14 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 // lines): the candidate pays oddEvenCost for each neper of the excess. This
 // is the usual odd/even-harmonic check of pitch trackers against errors an
 // octave low.
-func (t *combTable) salience(dst, z []float32, klo, khi int) {
+func (t *combTable) salience(dst, z, pk []float32, klo, khi int) {
 	for k := klo; k < khi; k++ {
 		var s, odd, even float32
 		var nOdd, nEven int
-		bins := t.bin[t.start[k]:t.start[k+1]]
-		ws := t.w[t.start[k]:t.start[k+1]]
-		for i, b := range bins {
-			v := max(z[b], z[b+1])
-			v = min(max(v, 0), zCap)
+		lo, hi := t.start[k], t.start[k+1]
+		pos, inv, ws := t.pos[lo:hi], t.inv[lo:hi], t.w[lo:hi]
+		for i, x := range pos {
+			v := posValue(z, pk, x, inv[i])
 			s += ws[i] * (v - emptyCost)
 			if i%2 == 0 {
 				odd += v
@@ -173,9 +213,8 @@ func (t *combTable) salience(dst, z []float32, klo, khi int) {
 				s -= oddEvenCost * d
 			}
 		}
-		if b := t.shaftBin[k]; b >= 0 {
-			v := min(max(z[b], z[b+1]), zCap)
-			s += shaftLineWeight * max(0, v-emptyCost)
+		if x := t.shaftPos[k]; x >= 0 {
+			s += shaftLineWeight * max(0, posValue(z, pk, x, t.shaftInv[k])-emptyCost)
 		}
 		dst[k-klo] = s - t.thr[k]
 	}
@@ -221,9 +260,12 @@ func (w *whitener) layout(n int) {
 	w.blk = make([]float32, floorBlock+floorMinBlock)
 }
 
-// whiten writes z_k = ln(P_k/floor_k) to z and keeps ln P. re, im and z
-// have the same length.
-func (w *whitener) whiten(z, re, im []float32) {
+// whiten writes z_k = ln(P_k/floor_k) to z and keeps ln P. When pk is not
+// nil it also writes, for every local maximum k of the power with z_k > 0,
+// its position refined by a parabola through ln P (QIFFT, J. O. Smith and
+// X. Serra 1987; ample for matching comb positions), and −1 elsewhere. re,
+// im, z and pk have the same length.
+func (w *whitener) whiten(z, pk, re, im []float32) {
 	n := len(re)
 	w.layout(n)
 	if cap(w.lnP) < n {
@@ -261,6 +303,22 @@ func (w *whitener) whiten(z, re, im []float32) {
 			f = w.lnFloor[b]*(1-a) + w.lnFloor[b+1]*a
 		}
 		z[k] = w.lnP[k] - f
+	}
+	if pk == nil {
+		return
+	}
+	pk[0], pk[n-1] = -1, -1
+	for k := 1; k < n-1; k++ {
+		a, b, c := w.lnP[k-1], w.lnP[k], w.lnP[k+1]
+		if !(b > a && b >= c) || z[k] <= 0 {
+			pk[k] = -1
+			continue
+		}
+		d := float32(0)
+		if den := a - 2*b + c; den < 0 {
+			d = 0.5 * (a - c) / den
+		}
+		pk[k] = float32(k) + d
 	}
 }
 

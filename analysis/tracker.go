@@ -20,9 +20,9 @@ type TrackConfig struct {
 	MinShaftHz, MaxShaftHz float64
 	// STFT sets the frames of the output track (the refinement pass). Zero
 	// fields are chosen from the speed found by the search pass: a Hann
-	// frame of about 4.5 periods of the lowest shaft speed (a power of two,
-	// so that neighbouring shaft-order lines lie about 4 bins apart), and a
-	// hop of about 2.5 ms. A shorter frame resolves faster changes; each
+	// frame of about 4.5 periods of the lowest shaft speed (so that
+	// neighbouring shaft-order lines lie about 4 bins apart) but at least
+	// 20 ms, rounded to a power of two, and a hop of about 2.5 ms. A shorter frame resolves faster changes; each
 	// track sample sees the true speed through Track.Kernel.
 	STFT dsp.STFTConfig
 	// MaxAccelHzPerS bounds how fast the shaft frequency may change between
@@ -48,6 +48,11 @@ const (
 	maxSearchFrames = 12000
 	// refineCycles is the refinement frame in periods of the lowest speed.
 	refineCycles = 4.5
+	// refineMinFrameS is the shortest default refinement frame: shorter
+	// frames cannot part a blade-pass line from a tone or another machine's
+	// line 100–200 Hz away, and τ ≥ 8 ms needs no finer kernel (a 20 ms
+	// Hann frame's kernel has a standard deviation of 2.8 ms).
+	refineMinFrameS = 0.02
 	// refineHopS is the default hop of the output track.
 	refineHopS = 0.0025
 	// maxDisplayFrames bounds the display spectrogram's rows.
@@ -60,6 +65,13 @@ const (
 	// refineMinZ is the least excess (nepers, 2.1 = 9 dB) of a harmonic's
 	// peak over the noise floor for it to enter the pooled estimate.
 	refineMinZ = 2.1
+	// refineStartRel is the standard error assumed for the search's
+	// candidate before any line is refined (the grid step and the coarse
+	// bins of the refinement frame); refineFloorRel bounds the running
+	// standard error from below (lines of a speed that changes within the
+	// frame disagree by more than their noise).
+	refineStartRel = 0.004
+	refineFloorRel = 0.0005
 	// refineHarmonics bounds the harmonics used in refinement, in multiples
 	// of the blade count.
 	refineHarmonics = 8
@@ -231,12 +243,13 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	scratch := make([]searchScratch, workers)
 	for w := range scratch {
 		scratch[w].z = make([]float32, bins)
+		scratch[w].pk = make([]float32, bins)
 	}
 	total := T + 2*T*sc.Hop/max(1, int(math.Round(refineHopS*fs)))
 	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
 		s := &scratch[w]
-		s.wh.whiten(s.z, re, im)
-		comb.salience(sal[i*K:(i+1)*K], s.z, 0, K)
+		s.wh.whiten(s.z, s.pk, re, im)
+		comb.salience(sal[i*K:(i+1)*K], s.z, s.pk, 0, K)
 		if red != nil {
 			red.Frame(w, i, re, im)
 		}
@@ -284,8 +297,8 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 }
 
 type searchScratch struct {
-	wh whitener
-	z  []float32
+	wh    whitener
+	z, pk []float32
 }
 
 func (tk *tracker) report(total int) func(done, total int) {
@@ -318,7 +331,7 @@ func (tk *tracker) searchTime(i int) float64 {
 // refineScratch is one worker's state in the refinement pass.
 type refineScratch struct {
 	wh      whitener
-	z       []float32
+	z, pk   []float32
 	sal     []float32
 	est, sd []float64
 	hs, ord []int
@@ -344,7 +357,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	}
 	rc := tk.cfg.STFT
 	if rc.FrameLen == 0 {
-		rc.FrameLen = min(pow2Nearest(refineCycles*fs/fLow), tk.search.FrameLen)
+		rc.FrameLen = min(pow2Nearest(max(refineCycles*fs/fLow, refineMinFrameS*fs)), tk.search.FrameLen)
 	}
 	if rc.Hop == 0 {
 		rc.Hop = max(1, min(rc.FrameLen/4, int(math.Round(refineHopS*fs))))
@@ -372,6 +385,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	for w := range scratch {
 		s := &scratch[w]
 		s.z = make([]float32, bins)
+		s.pk = make([]float32, bins)
 		s.sal = make([]float32, K)
 		s.est = make([]float64, maxH)
 		s.sd = make([]float64, maxH)
@@ -403,8 +417,8 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		}
 		margin := int(math.Ceil(math.Log(1.03) / comb.logStep))
 		klo, khi = max(0, klo-margin), min(K, khi+margin+1)
-		s.wh.whiten(s.z, re, im)
-		comb.salience(s.sal[:khi-klo], s.z, klo, khi)
+		s.wh.whiten(s.z, s.pk, re, im)
+		comb.salience(s.sal[:khi-klo], s.z, s.pk, klo, khi)
 		kb := klo
 		for k := klo; k < khi; k++ {
 			if s.sal[k-klo] > s.sal[kb-klo] {
@@ -413,16 +427,20 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		}
 		// Refine harmonic by harmonic, predicting each from the estimate so
 		// far.
+		// Refine harmonic by harmonic. Each line is looked for near h times
+		// the running estimate and accepted only when it lies within half a
+		// natural bin plus three standard errors of it: a line of another
+		// comb one or two bins away (another machine in the room) is then
+		// left out instead of pulling the estimate onto that comb.
 		f0 := tk.grid[kb]
+		fRun, sdRun := f0, refineStartRel*f0
 		n := 0
 		var sw, swf float64
+		natBin := binHz * float64(pad)
 		for h := 1; h <= maxH; h++ {
-			fp := float64(h) * f0
+			fp := float64(h) * fRun
 			if fp > nyq {
 				break
-			}
-			if sw > 0 {
-				fp = float64(h) * swf / sw
 			}
 			j := int(math.Round(fp / binHz))
 			if j-pad < 1 || j+pad >= bins-1 {
@@ -446,16 +464,20 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 				d = dsp.InterpJacobsenHannPadded(re, im, jb, pad)
 			}
 			fh := (float64(jb) + d) * binHz
+			if math.Abs(fh-fp) > 0.5*natBin+3*float64(h)*sdRun {
+				continue
+			}
 			snr := math.Max(math.Exp(zj)-1, 0.5)
 			// Jacobsen's Hann estimator is within about twice the Cramér–Rao
 			// bound (0.1/SNR_bin bins², Rife & Boorstyn 1974), hence
 			// 0.7/√SNR natural bins.
-			sdh := 0.7 * binHz * float64(pad) / math.Sqrt(snr) / float64(h)
+			sdh := 0.7 * natBin / math.Sqrt(snr) / float64(h)
 			s.est[n], s.sd[n], s.hs[n] = fh/float64(h), sdh, h
 			n++
 			wt := 1 / (sdh * sdh)
 			sw += wt
 			swf += wt * fh / float64(h)
+			fRun, sdRun = swf/sw, math.Max(1/math.Sqrt(sw), refineFloorRel*fRun)
 		}
 		if n == 0 {
 			return

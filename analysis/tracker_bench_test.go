@@ -40,14 +40,14 @@ func BenchmarkSalienceFrame(b *testing.B) {
 	}
 	grid := newCandidateGrid(40, 1000, candidateStep)
 	comb := newCombTable(grid, 48000.0/n, len(re), 3, combHarmonics)
-	z := make([]float32, len(re))
+	z, pk := make([]float32, len(re)), make([]float32, len(re))
 	sal := make([]float32, len(grid))
 	var wh whitener
-	wh.whiten(z, re, im)
+	wh.whiten(z, pk, re, im)
 	b.ReportAllocs()
 	for b.Loop() {
-		wh.whiten(z, re, im)
-		comb.salience(sal, z, 0, len(grid))
+		wh.whiten(z, pk, re, im)
+		comb.salience(sal, z, pk, 0, len(grid))
 	}
 }
 
@@ -60,21 +60,21 @@ func TestSalienceNoAlloc(t *testing.T) {
 	}
 	grid := newCandidateGrid(40, 1000, candidateStep)
 	comb := newCombTable(grid, 16000.0/n, len(re), 2, combHarmonics)
-	z := make([]float32, len(re))
+	z, pk := make([]float32, len(re)), make([]float32, len(re))
 	sal := make([]float32, len(grid))
 	var wh whitener
-	wh.whiten(z, re, im)
+	wh.whiten(z, pk, re, im)
 	if a := testing.AllocsPerRun(20, func() {
-		wh.whiten(z, re, im)
-		comb.salience(sal, z, 0, len(grid))
+		wh.whiten(z, pk, re, im)
+		comb.salience(sal, z, pk, 0, len(grid))
 	}); a != 0 {
 		t.Errorf("%g allocations per frame, want 0", a)
 	}
 }
 
 // Noise-only statistics behind emptyCost and noiseSD: the value v of one
-// comb position (max of two neighbouring whitened Hann bins, clamped) on
-// white noise.
+// comb position (posValue) on white noise, at positions spread over the
+// spectrum.
 func TestWhitenNoiseStatistics(t *testing.T) {
 	const n, fs = 2048, 48000.0
 	rng := rand.New(rand.NewPCG(7, 7))
@@ -85,11 +85,12 @@ func TestWhitenNoiseStatistics(t *testing.T) {
 	var sum, sum2 float64
 	cnt := 0
 	var wh whitener
-	z := make([]float32, n/2+1)
+	z, pk := make([]float32, n/2+1), make([]float32, n/2+1)
 	err := dsp.STFTConfig{FrameLen: n, Hop: n, FFTLen: n, Workers: 1}.Process(context.Background(), x, fs, func(_, _ int, re, im []float32) {
-		wh.whiten(z, re, im)
-		for b := 20; b+1 < len(z)-20; b += 3 {
-			v := float64(min(max(max(z[b], z[b+1]), 0), zCap))
+		wh.whiten(z, pk, re, im)
+		for xb := 20.37; xb < float64(len(z)-20); xb += 3.1 {
+			sg := matchTolerance(xb)
+			v := float64(posValue(z, pk, float32(xb), float32(1/(4*sg*sg))))
 			sum += v
 			sum2 += v * v
 			cnt++
