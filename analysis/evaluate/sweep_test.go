@@ -1,0 +1,249 @@
+package evaluate
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"whirlfit/analysis"
+	"whirlfit/dsp"
+	"whirlfit/dsp/synth"
+)
+
+var (
+	evalN    = flag.Int("eval.n", 10, "number of random cases in the sweep")
+	evalSeed = flag.Uint64("eval.seed", 20261201, "seed of the sweep")
+	evalKeep = flag.String("eval.keep", "", "folder to write each case's recording and truth into")
+)
+
+// stepScore is one true step matched (or not) with a reported one.
+type stepScore struct {
+	found             bool
+	tauErr            float64 // relative
+	thetaErrS         float64 // absolute, with command times
+	rpmErr            float64 // relative, plateau after the step
+	tauCovered        bool
+	thetaCovered      bool
+	hasTheta          bool
+	direction         string
+	tau, trueTau, snr float64
+}
+
+type caseScore struct {
+	name   string
+	steps  []stepScore
+	false_ int
+	err    error
+}
+
+func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audio, error) {
+	sr := c.Scene.SampleRate
+	if c.Format != synth.WAV16 && c.Format != synth.WAV24 && c.Format != synth.WAVFloat {
+		dir := t.TempDir()
+		if *evalKeep != "" {
+			dir = *evalKeep
+		}
+		p := filepath.Join(dir, fmt.Sprintf("case%02d.%s", i, c.Format.Ext()))
+		err := synth.WriteFile(context.Background(), p, chans, sr, c.Format)
+		if err == nil {
+			return dsp.DecodeFile(p)
+		}
+		if !errors.Is(err, synth.ErrNoEncoder) {
+			return nil, err
+		}
+		t.Logf("case %d: %v; falling back to 16-bit WAV", i, err)
+	}
+	bits := c.Bits
+	if bits == 0 {
+		bits = 16
+	}
+	b, err := synth.EncodeWAV(chans, sr, bits)
+	if err != nil {
+		return nil, err
+	}
+	if *evalKeep != "" {
+		os.WriteFile(filepath.Join(*evalKeep, fmt.Sprintf("case%02d.wav", i)), b, 0o644)
+	}
+	return dsp.Decode(fmt.Sprintf("case%02d.wav", i), b)
+}
+
+// score matches true steps with reported ones: same direction, reported
+// response start within 60 ms of the true one (θ and τ shift the visible
+// start, so the window is generous but far shorter than the 0.25 s
+// shortest gap).
+func score(c synth.Case, rep *analysis.Report, withCommands bool) (ss []stepScore, falseSteps int) {
+	used := make([]bool, len(rep.Steps))
+	for _, st := range c.Truth.Steps {
+		s := stepScore{direction: "down", trueTau: st.TauS, snr: c.Scene.SNRdB}
+		if st.Up() {
+			s.direction = "up"
+		}
+		start := st.CommandS + st.DeadS
+		best, bestD := -1, 0.06
+		for j, r := range rep.Steps {
+			if used[j] || string(r.Direction) != s.direction {
+				continue
+			}
+			d := math.Abs(r.ResponseStartS - start)
+			if withCommands && r.CommandS != nil {
+				d = math.Abs(*r.CommandS - st.CommandS)
+			}
+			if d < bestD {
+				best, bestD = j, d
+			}
+		}
+		if best >= 0 {
+			used[best] = true
+			r := rep.Steps[best]
+			s.found = true
+			s.tau = r.TauS.Value
+			s.tauErr = math.Abs(r.TauS.Value-st.TauS) / st.TauS
+			s.tauCovered = r.TauS.CI95[0] <= st.TauS && st.TauS <= r.TauS.CI95[1]
+			trueAfter := analysis.RPM(st.TargetHz)
+			s.rpmErr = math.Abs(r.RPMAfter.Value-trueAfter) / trueAfter
+			if r.DeadTimeS != nil {
+				s.hasTheta = true
+				s.thetaErrS = math.Abs(r.DeadTimeS.Value - st.DeadS)
+				s.thetaCovered = r.DeadTimeS.CI95[0] <= st.DeadS && st.DeadS <= r.DeadTimeS.CI95[1]
+			}
+		}
+		ss = append(ss, s)
+	}
+	for _, u := range used {
+		if !u {
+			falseSteps++
+		}
+	}
+	return ss, falseSteps
+}
+
+func quantile(x []float64, q float64) float64 {
+	if len(x) == 0 {
+		return math.NaN()
+	}
+	s := slices.Clone(x)
+	slices.Sort(s)
+	pos := q * float64(len(s)-1)
+	lo := int(math.Floor(pos))
+	hi := min(lo+1, len(s)-1)
+	return s[lo] + (pos-float64(lo))*(s[hi]-s[lo])
+}
+
+// TestSweep renders random cases across the held-out ranges and scores the
+// analysis twice: with the command times given (dead time measurable) and
+// with the steps left to detection.
+func TestSweep(t *testing.T) {
+	if *evalKeep != "" {
+		if err := os.MkdirAll(*evalKeep, 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
+	opts := synth.DefaultRandomOptions()
+	var tauErr, thetaErr, rpmErr []float64
+	var found, total, falseSteps, covTau, covTheta, nTheta int
+	var foundDet, falseDet int
+	for i := range *evalN {
+		c := synth.RandomScene(rng, opts)
+		chans, err := c.Render()
+		if err != nil {
+			t.Fatalf("case %d: render: %v", i, err)
+		}
+		a, err := decodeCase(t, i, c, chans)
+		if err != nil {
+			t.Errorf("case %d (%s): decode: %v", i, c.Format, err)
+			continue
+		}
+		cfg := analysis.Config{Blades: c.Truth.Blades}
+		if c.Truth.TriggerChannel >= 0 {
+			cfg.Channel = 1 // the first microphone; the trigger is not mixed in
+		}
+		cmds := make([]float64, len(c.Truth.Steps))
+		for k, st := range c.Truth.Steps {
+			cmds[k] = st.CommandS
+		}
+		// With command times.
+		cfg.CommandTimesS = cmds
+		rep, err := analysis.Run(context.Background(), a, cfg, nil)
+		if err != nil {
+			t.Errorf("case %d: %v", i, err)
+			continue
+		}
+		ss, fs := score(c, rep, true)
+		falseSteps += fs
+		// Without: detection must find the steps by itself.
+		cfg.CommandTimesS = nil
+		repDet, err := analysis.Run(context.Background(), a, cfg, nil)
+		if err != nil {
+			t.Errorf("case %d (detection): %v", i, err)
+			continue
+		}
+		ssDet, fsDet := score(c, repDet, false)
+		falseDet += fsDet
+		var line strings.Builder
+		fmt.Fprintf(&line, "case %2d %-60s", i, c.String())
+		for k, s := range ss {
+			total++
+			if ssDet[k].found {
+				foundDet++
+			}
+			if !s.found {
+				fmt.Fprintf(&line, " [%s MISSED]", s.direction)
+				continue
+			}
+			found++
+			tauErr = append(tauErr, s.tauErr)
+			rpmErr = append(rpmErr, s.rpmErr)
+			if s.tauCovered {
+				covTau++
+			}
+			if s.hasTheta {
+				nTheta++
+				thetaErr = append(thetaErr, s.thetaErrS)
+				if s.thetaCovered {
+					covTheta++
+				}
+			}
+			mark := ""
+			if !s.tauCovered {
+				mark = "!"
+			}
+			fmt.Fprintf(&line, " [%s τ %.1f/%.1f ms%s θerr %.1f ms rpm %.2f%%]", s.direction, 1e3*s.tau, 1e3*s.trueTau, mark, 1e3*s.thetaErrS, 100*s.rpmErr)
+		}
+		if fs > 0 || fsDet > 0 {
+			fmt.Fprintf(&line, " false: %d given, %d detected", fs, fsDet)
+		}
+		t.Log(line.String())
+	}
+	if total == 0 {
+		t.Fatal("no steps scored")
+	}
+	t.Logf("steps: %d true; with command times %d found, %d false; detection alone %d found, %d false", total, found, falseSteps, foundDet, falseDet)
+	t.Logf("|τ error|: median %.2f %%, 95th percentile %.2f %% (goal ≤ 3 %%, ≤ 10 %%)", 100*quantile(tauErr, 0.5), 100*quantile(tauErr, 0.95))
+	t.Logf("|θ error|: median %.2f ms (goal ≤ 2 ms)", 1e3*quantile(thetaErr, 0.5))
+	t.Logf("rpm error after the step: median %.3f %%, max %.3f %% (goal ≤ 0.5 %%)", 100*quantile(rpmErr, 0.5), 100*quantile(rpmErr, 1))
+	t.Logf("95 %% interval coverage: τ %.1f %% of %d, θ %.1f %% of %d (goal 90–98 %%)", 100*float64(covTau)/float64(found), found, 100*float64(covTheta)/float64(max(nTheta, 1)), nTheta)
+
+	// Regression guards: the held-out goals where a sweep of this size can
+	// show them (medians), looser bounds where a few hard cases dominate.
+	if f := float64(found) / float64(total); f < 0.9 {
+		t.Errorf("with command times %.0f %% of steps found, want ≥ 90 %%", 100*f)
+	}
+	if m := quantile(tauErr, 0.5); m > 0.03 {
+		t.Errorf("median |τ error| %.2f %%, want ≤ 3 %%", 100*m)
+	}
+	if m := quantile(thetaErr, 0.5); m > 0.002 {
+		t.Errorf("median |θ error| %.2f ms, want ≤ 2 ms", 1e3*m)
+	}
+	if m := quantile(rpmErr, 0.5); m > 0.005 {
+		t.Errorf("median rpm error %.3f %%, want ≤ 0.5 %%", 100*m)
+	}
+}
