@@ -200,7 +200,11 @@ func analyseOne(ctx context.Context, path string, cfg analysis.Config, prog *pro
 func reportErrors(stderr io.Writer, cmd string, res []fileResult) (reps []*analysis.Report, status int) {
 	for _, r := range res {
 		if r.Err != nil {
-			fmt.Fprintf(stderr, "whirlfit: %s: %s: %v\n", cmd, r.Path, oneLine(r.Err))
+			msg := oneLine(r.Err)
+			if !strings.Contains(msg, r.Path) { // decoders name the file already
+				msg = r.Path + ": " + msg
+			}
+			fmt.Fprintf(stderr, "whirlfit: %s: %s\n", cmd, msg)
 			status = 1
 			continue
 		}
