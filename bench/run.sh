@@ -2,8 +2,10 @@
 # bench/run.sh: time the magnitude STFT of 60 s of 48 kHz mono with
 # whirlfit's dsp package (2 workers and 1), FFTW (float32, one r2c plan,
 # FFTW_MEASURE, single thread) and scipy.signal.stft (Debian python3-scipy,
-# float32 and float64 input), in one run, 5 rounds each; print the medians
-# and the ratios.
+# float32 and float64 input), in one run, 5 interleaved rounds; print the
+# medians and the ratios. Each Go round is the mean of 3 benchmark
+# iterations; FFTW and scipy rounds are single timed calls after planning
+# (FFTW) or one warm-up call (scipy).
 #
 # usage: bench/run.sh            (from anywhere in the repository)
 # needs: go, cc, libfftw3-dev, python3-scipy. Other load on the machine
@@ -21,16 +23,21 @@ go test -c -o "$tmp/dsp.test" ./dsp
 echo "load before: $(cat /proc/loadavg)"
 echo "cpu: $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ //'), $(nproc) cores, GOMAXPROCS default"
 : > "$tmp/times"
-for cfg in "1024 128" "4096 512"; do
-	set -- $cfg
-	"$tmp/fftw_stft" "$1" "$2" "$ROUNDS" 2>/dev/null >> "$tmp/times"
-	"$PY" bench/scipy_stft.py "$1" "$2" "$ROUNDS" float32 2>/dev/null >> "$tmp/times"
-	"$PY" bench/scipy_stft.py "$1" "$2" "$ROUNDS" float64 2>/dev/null >> "$tmp/times"
-	for w in 1 2; do
-		"$tmp/dsp.test" -test.run '^$' -test.bench "^BenchmarkSTFT60s/$1-hop$2-workers$w\$" \
-			-test.benchtime 3x -test.count "$ROUNDS" 2>/dev/null |
-			awk -v n="$1" -v h="$2" -v w="$w" '/^BenchmarkSTFT60s/ { printf "go-%dworker %s %s %.6f\n", w, n, h, $3 / 1e9 }' >> "$tmp/times"
+# Rounds are interleaved (each round runs every tool once) so that a change
+# in the machine's load affects all of them alike.
+for r in $(seq "$ROUNDS"); do
+	for cfg in "1024 128" "4096 512"; do
+		set -- $cfg
+		"$tmp/fftw_stft" "$1" "$2" 1 2>/dev/null >> "$tmp/times"
+		"$PY" bench/scipy_stft.py "$1" "$2" 1 float32 2>/dev/null >> "$tmp/times"
+		"$PY" bench/scipy_stft.py "$1" "$2" 1 float64 2>/dev/null >> "$tmp/times"
+		for w in 1 2; do
+			"$tmp/dsp.test" -test.run '^$' -test.bench "^BenchmarkSTFT60s/$1-hop$2-workers$w\$" \
+				-test.benchtime 3x 2>/dev/null |
+				awk -v w="$w" -v n="$1" -v h="$2" '/^BenchmarkSTFT60s/ { printf "go-%dworker %s %s %.6f\n", w, n, h, $3 / 1e9 }' >> "$tmp/times"
+		done
 	done
+	echo "round $r done, load $(cut -d' ' -f1-3 /proc/loadavg)"
 done
 echo "load after:  $(cat /proc/loadavg)"
 "$PY" - "$tmp/times" <<'PYEOF'
@@ -41,6 +48,7 @@ for line in open(sys.argv[1]):
     rows.setdefault((n, hop), {}).setdefault(name, []).append(float(sec))
 for (n, hop), d in rows.items():
     print(f"\n60 s of 48 kHz mono, frame {n}, hop {hop}, magnitudes (median of {len(d['fftw'])} rounds)")
+    print("  " + " ".join(f"{k}={['%.1f' % (x * 1e3) for x in v]}" for k, v in d.items()) + " (ms)")
     med = {k: statistics.median(v) for k, v in d.items()}
     for k in ["go-2worker", "go-1worker", "fftw", "scipy-float32", "scipy-float64"]:
         if k in med:
