@@ -72,8 +72,8 @@ func TestDumpCases(t *testing.T) {
 		}
 		var trig *int
 		if c.Trigger != nil {
-			one := 1
-			trig = &one
+			ch := c.Truth.TriggerChannel
+			trig = &ch
 		}
 		f := c.Format
 		name := fmt.Sprintf("case%02d%s", k, f.Ext())

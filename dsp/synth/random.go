@@ -57,6 +57,8 @@ type RandomOptions struct {
 	// reverberation, hum, fixed tone, other machine, clipping, AGC, rotor
 	// broadband noise, speed jitter) is switched on; 0 gives clean scenes.
 	Impairment float64
+	// Stereo2 is the probability of a second microphone channel.
+	Stereo2 float64
 	// Standstill is the probability that the recording starts with the motor
 	// stopped; the first step is then a spin-up from 0 Hz. Ramp is the
 	// probability of a slow throttle ramp before the first step or after
@@ -99,6 +101,7 @@ func DefaultRandomOptions() *RandomOptions {
 		Ramp:          0.15,
 		Stereo:        0.3,
 		Compressed:    0.25,
+		Stereo2:       0.2,
 	}
 }
 
@@ -111,9 +114,13 @@ type Case struct {
 	// as a fallback when ffmpeg is missing).
 	Format Format
 	Bits   int
-	// Trigger, when not nil, is a command channel to render with
-	// RenderStereo.
+	// Trigger, when not nil, is a command channel (see Render).
 	Trigger *Trigger
+	// Mics is the number of microphone channels (1 or 2); a second
+	// microphone hears the same rotor with its own noise, reverberation and
+	// a delay of MicDelayS.
+	Mics      int
+	MicDelayS float64
 }
 
 // Truth is what an analysis of a Case should find.
@@ -130,6 +137,11 @@ type Truth struct {
 	Standstill bool
 	// Ramps are slow throttle ramps, where no step must be found.
 	Ramps []RampTruth
+	// Dropouts are intervals where the recording is silent (Scene.Dropouts).
+	Dropouts [][2]float64
+	// TriggerChannel is the 0-based channel of the command signal in
+	// Case.Render's output, or −1.
+	TriggerChannel int
 	// Impairments names what is switched on, for test logs.
 	Impairments []string
 }
@@ -140,17 +152,25 @@ func (tr Truth) RPM(tS float64) float64 {
 	return secondsPerMinute * tr.Shaft(tS)
 }
 
-// Render renders the case: one channel, or two when it has a trigger
-// (channel 1 is the command signal).
+// Render renders the case: its microphone channels, then the trigger
+// channel when it has one (Truth.TriggerChannel gives its index).
 func (c Case) Render() ([][]float32, error) {
+	var out [][]float32
+	for m := range max(c.Mics, 1) {
+		sc := c.Scene
+		if m > 0 {
+			sc.Mic, sc.MicDelayS = uint64(m), c.MicDelayS
+		}
+		x, err := Render(sc)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, x)
+	}
 	if c.Trigger != nil {
-		return RenderStereo(c.Scene, *c.Trigger)
+		out = append(out, toFloat32(triggerSignal(c.Scene, *c.Trigger)))
 	}
-	x, err := Render(c.Scene)
-	if err != nil {
-		return nil, err
-	}
-	return [][]float32{x}, nil
+	return out, nil
 }
 
 // RampTruth is a linear change of shaft frequency from FromHz at T0S to
@@ -374,17 +394,39 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		sc.AGCS = Range{0.3, 3}.drawLog(rng)
 		imp = append(imp, fmt.Sprintf("agc%.1fs", sc.AGCS))
 	}
+	if on() {
+		sc.ClickRateHz = Range{0.2, 3}.drawLog(rng)
+		sc.ClickDB = 0 + 20*rng.Float64()
+		imp = append(imp, fmt.Sprintf("clicks%.1fHz/%.0fdB", sc.ClickRateHz, sc.ClickDB))
+	}
+	var dropouts [][2]float64
+	if on() && rng.IntN(2) == 0 {
+		// One or two brief losses of signal, 10–80 ms.
+		for range 1 + rng.IntN(2) {
+			a := t * rng.Float64()
+			dropouts = append(dropouts, [2]float64{a, a + Range{0.01, 0.08}.draw(rng)})
+		}
+		sc.Dropouts = dropouts
+		imp = append(imp, fmt.Sprintf("dropouts%d", len(dropouts)))
+	}
+	if on() && rng.IntN(2) == 0 {
+		sc.DCOffset = 0.05 * (2*rng.Float64() - 1)
+		imp = append(imp, fmt.Sprintf("dc%.3f", sc.DCOffset))
+	}
 	c := Case{
 		Scene: sc,
 		Truth: Truth{
-			Blades:      blades,
-			Shaft:       shaft,
-			StartHz:     start,
-			Steps:       truthSteps,
-			Standstill:  standstill,
-			Ramps:       ramps,
-			Impairments: imp,
+			Blades:         blades,
+			Shaft:          shaft,
+			StartHz:        start,
+			Steps:          truthSteps,
+			Standstill:     standstill,
+			Ramps:          ramps,
+			Dropouts:       dropouts,
+			TriggerChannel: -1,
+			Impairments:    imp,
 		},
+		Mics: 1,
 	}
 	if rng.Float64() < o.Compressed {
 		c.Format = []Format{FLAC, MP3, M4A, OGG}[rng.IntN(4)]
@@ -393,7 +435,13 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 		c.Format = []Format{WAV16, WAV24, WAVFloat}[rng.IntN(3)]
 		c.Bits = c.Format.Bits()
 	}
+	if rng.Float64() < o.Stereo2 {
+		c.Mics = 2
+		c.MicDelayS = 0.0015 * rng.Float64()
+		c.Truth.Impairments = append(c.Truth.Impairments, fmt.Sprintf("mics2/%.2fms", 1e3*c.MicDelayS))
+	}
 	if tg != nil {
+		c.Truth.TriggerChannel = c.Mics
 		for _, s := range truthSteps {
 			tg.CommandS = append(tg.CommandS, s.CommandS)
 			tg.Throttle = append(tg.Throttle, s.TargetHz/(1.1*hi))
@@ -463,6 +511,9 @@ func randomRotor(rng *rand.Rand, blades int) Rotor {
 	if rng.Float64() < 0.8 {
 		r.PolePairs = []int{4, 6, 7, 7, 7, 10, 12, 14}[rng.IntN(8)]
 		r.WhineLevel = Range{0.02, 0.3}.drawLog(rng)
+		if rng.IntN(2) == 0 {
+			r.CommutationLevel = Range{0.01, 0.2}.drawLog(rng)
+		}
 	}
 	return r
 }

@@ -73,7 +73,7 @@ func TestRandomSceneRanges(t *testing.T) {
 		counts[string(c.Format)]++
 	}
 	t.Logf("draw counts over 300 cases: %v", counts)
-	for _, key := range []string{"fs16000", "fs44100", "fs48000", "B2", "B5", "standstill", "ramp", "clip", "agc", "reverb", "hum", "tone", "fan", "pump", "rotor", "twin", "pwm", "resonance", "highpass", "rotornoise", "jitter", "white", "pink", "brown", "trigger", "wav16", "wav24", "wavf32", "flac", "mp3", "m4a", "ogg"} {
+	for _, key := range []string{"fs16000", "fs44100", "fs48000", "B2", "B5", "standstill", "ramp", "clip", "agc", "reverb", "hum", "tone", "fan", "pump", "rotor", "twin", "pwm", "resonance", "clicks", "dropouts", "dc", "mics", "highpass", "rotornoise", "jitter", "white", "pink", "brown", "trigger", "wav16", "wav24", "wavf32", "flac", "mp3", "m4a", "ogg"} {
 		if counts[key] == 0 {
 			t.Errorf("no case with %s", key)
 		}
@@ -106,6 +106,16 @@ func TestRandomSceneDeterministicAndRenders(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		wantCh := a.Mics
+		if a.Trigger != nil {
+			wantCh++
+			if a.Truth.TriggerChannel != a.Mics {
+				t.Errorf("trigger channel %d, want %d", a.Truth.TriggerChannel, a.Mics)
+			}
+		}
+		if len(x) != wantCh {
+			t.Errorf("%d channels, want %d", len(x), wantCh)
+		}
 		for _, ch := range x {
 			for i, v := range ch {
 				if v != v || v < -1 || v > 1 {
@@ -123,7 +133,7 @@ func TestRandomSceneClean(t *testing.T) {
 	// Impairment 0, no standstill, ramp or trigger: the plain scenes a fit
 	// test starts from.
 	o := DefaultRandomOptions()
-	o.Impairment, o.Standstill, o.Ramp, o.Stereo = 0, 0, 0, 0
+	o.Impairment, o.Standstill, o.Ramp, o.Stereo, o.Stereo2 = 0, 0, 0, 0, 0
 	o.SampleRates = []int{48000}
 	rng := rand.New(rand.NewPCG(9, 9))
 	for range 50 {
@@ -132,7 +142,8 @@ func TestRandomSceneClean(t *testing.T) {
 		if sc.HighPassHz != 0 || sc.ReverbS != 0 || sc.HumHz != 0 || sc.ToneHz != 0 || len(sc.Others) != 0 ||
 			sc.ClipLevel != 0 || sc.AGCS != 0 || sc.RotorNoiseShare != 0 || sc.Rotor.JitterRel != 0 ||
 			c.Trigger != nil || c.Truth.Standstill || len(c.Truth.Ramps) != 0 ||
-			len(sc.Resonances) != 0 || sc.Rotor.PWMHz != 0 {
+			len(sc.Resonances) != 0 || sc.Rotor.PWMHz != 0 || sc.ClickRateHz != 0 || len(sc.Dropouts) != 0 ||
+			sc.DCOffset != 0 || c.Mics != 1 || c.Truth.TriggerChannel != -1 {
 			t.Fatalf("impairment on in a clean case: %s", c)
 		}
 	}

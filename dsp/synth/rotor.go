@@ -31,6 +31,10 @@ type Rotor struct {
 	// PolePairs = 0 or WhineLevel = 0 renders no whine.
 	PolePairs  int
 	WhineLevel float64
+	// CommutationLevel is the amplitude of the six-step commutation line of
+	// a three-phase motor, at h = 6·PolePairs (six commutations per
+	// electrical cycle — common practice for trapezoidal drives).
+	CommutationLevel float64
 	// PWMHz, when > 0 with PolePairs > 0, adds switching noise of the speed
 	// controller: a carrier at PWMHz with sidebands at PWMHz ± k·PolePairs·f
 	// for k = 1, 2, amplitudes PWMLevel, PWMLevel/2, PWMLevel/4, all scaled
@@ -126,6 +130,7 @@ func (r Rotor) Lines(rng *rand.Rand) []Line {
 	if r.PolePairs > 0 {
 		add(r.PolePairs, r.WhineLevel)
 		add(2*r.PolePairs, r.WhineLevel/2)
+		add(6*r.PolePairs, r.CommutationLevel)
 	}
 	lines := make([]Line, len(order))
 	for i, h := range order {

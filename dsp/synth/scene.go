@@ -29,8 +29,9 @@ type Machine struct {
 //     power that comes from the rotor.
 //  4. t, i and w are each high-passed (HighPassHz), then w is scaled to give
 //     the requested SNR, and the three are summed.
-//  5. Reverberation (ReverbS), then hard clipping (ClipLevel), then
-//     automatic gain control (AGCS), then scaling to the output level.
+//  5. Clicks (ClickRateHz), reverberation (ReverbS), hard clipping
+//     (ClipLevel), automatic gain control (AGCS), scaling to the output
+//     level; then microphone delay, DC offset and dropouts.
 //
 // SNR is defined as SNRdB = 10·log10(P_t / P_w), where P_t is the mean power
 // of the high-passed tonal sound over the samples where the rotor runs
@@ -91,6 +92,24 @@ type Scene struct {
 	// (0 means 0.5, about −6 dBFS).
 	PeakLevel float64
 
+	// ClickRateHz is the mean rate of knocks and handling noise (Poisson),
+	// each a short decaying burst of peak ClickDB relative to the rotor's
+	// tonal RMS; added before reverberation.
+	ClickRateHz float64
+	ClickDB     float64
+	// Dropouts are intervals [from, to) in seconds where the recorder lost
+	// the signal (samples 0), applied last.
+	Dropouts [][2]float64
+	// DCOffset is added to every output sample (a recorder's offset).
+	DCOffset float64
+	// Mic selects one microphone of a multi-microphone recording: the
+	// rotor, interference and clicks are the same for every Mic, while the
+	// room noise, the rotor's broadband noise and the reverberation are
+	// drawn afresh; MicDelayS delays this microphone's signal. Mic 0 with
+	// no delay is the plain recording.
+	Mic       uint64
+	MicDelayS float64
+
 	// Seed makes the scene's randomness reproducible.
 	Seed uint64
 }
@@ -126,6 +145,10 @@ func (sc *Scene) Validate() error {
 		return fmt.Errorf("%w: AGC time %g s", ErrScene, sc.AGCS)
 	case sc.PeakLevel < 0 || sc.PeakLevel > 1:
 		return fmt.Errorf("%w: peak level %g outside 0–1", ErrScene, sc.PeakLevel)
+	case sc.ClickRateHz < 0 || math.IsNaN(sc.ClickDB) || math.IsNaN(sc.DCOffset) || math.Abs(sc.DCOffset) >= 1:
+		return fmt.Errorf("%w: clicks %g Hz at %g dB, DC offset %g", ErrScene, sc.ClickRateHz, sc.ClickDB, sc.DCOffset)
+	case sc.MicDelayS < 0 || sc.MicDelayS > 1:
+		return fmt.Errorf("%w: microphone delay %g s outside 0–1", ErrScene, sc.MicDelayS)
 	}
 	for i, m := range sc.Others {
 		if m.Shaft == nil || m.Rotor.Blades < 1 {
@@ -148,11 +171,18 @@ const (
 	streamRotorNoise
 	streamReverb
 	streamInterference
-	streamOthers // + index
+	streamClicks
+	streamOthers // + index; keep last
 )
 
 func (sc *Scene) rng(stream uint64) *rand.Rand {
 	return rand.New(rand.NewPCG(sc.Seed, 0x9e3779b97f4a7c15*stream))
+}
+
+// micRng is rng for what differs between microphones (room noise, the
+// rotor's broadband noise, reverberation); Mic = 0 gives rng.
+func (sc *Scene) micRng(stream uint64) *rand.Rand {
+	return rand.New(rand.NewPCG(sc.Seed+0x632be59bd9b4e019*sc.Mic, 0x9e3779b97f4a7c15*stream))
 }
 
 // parts are the stages of a rendering, kept for tests.
@@ -228,10 +258,10 @@ func render(sc Scene) (*parts, error) {
 	// Broadband noise, unit power before the high-pass.
 	if !math.IsInf(sc.SNRdB, 1) {
 		p.noise = make([]float64, n)
-		colouredNoise(p.noise, sc.NoiseColor, fs, sc.rng(streamRoom))
+		colouredNoise(p.noise, sc.NoiseColor, fs, sc.micRng(streamRoom))
 		if sc.RotorNoiseShare > 0 {
 			rn := make([]float64, n)
-			colouredNoise(rn, Pink, fs, sc.rng(streamRotorNoise))
+			colouredNoise(rn, Pink, fs, sc.micRng(streamRotorNoise))
 			for i := range rn {
 				rn[i] *= rr.drive[i]
 			}
@@ -272,35 +302,84 @@ func render(sc Scene) (*parts, error) {
 			mix[i] += p.noise[i]
 		}
 	}
+	if sc.ClickRateHz > 0 {
+		addClicks(mix, sc.ClickRateHz, math.Sqrt(ptHPOr(p, pt))*math.Pow(10, sc.ClickDB/20), fs, sc.rng(streamClicks))
+	}
 	if sc.ReverbS > 0 {
-		h := roomResponse(sc.ReverbS, sc.ReverbDRRdB, fs, sc.rng(streamReverb))
+		h := roomResponse(sc.ReverbS, sc.ReverbDRRdB, fs, sc.micRng(streamReverb))
 		mix = convolve(mix, h)
 	}
-	peak := peakAbs(mix)
 	level := sc.PeakLevel
 	if level == 0 {
 		level = 0.5
 	}
-	if peak == 0 {
-		p.mix = mix
-		return p, nil
-	}
-	if sc.ClipLevel > 0 {
-		c := sc.ClipLevel * peak
-		for i, v := range mix {
-			mix[i] = max(-c, min(c, v)) / c // clip level → full scale
+	if peak := peakAbs(mix); peak > 0 {
+		switch {
+		case sc.ClipLevel > 0 && sc.AGCS == 0:
+			c := sc.ClipLevel * peak
+			for i, v := range mix {
+				mix[i] = max(-c, min(c, v)) / c // clip level → full scale
+			}
+		default:
+			if sc.ClipLevel > 0 {
+				c := sc.ClipLevel * peak
+				for i, v := range mix {
+					mix[i] = max(-c, min(c, v))
+				}
+			}
+			if sc.AGCS > 0 {
+				agc(mix, sc.AGCS, 0.1, math.Pow(10, 30.0/20), fs)
+			}
+			scale(mix, level/peakAbs(mix))
 		}
-		if sc.AGCS == 0 {
-			p.mix = mix
-			return p, nil
+	}
+	// Digital faults of the recorder: microphone delay, DC offset, dropouts.
+	if d := int(math.Round(sc.MicDelayS * fs)); d > 0 && d < n {
+		copy(mix[d:], mix[:n-d])
+		clear(mix[:d])
+	}
+	if sc.DCOffset != 0 {
+		for i := range mix {
+			mix[i] += sc.DCOffset
 		}
 	}
-	if sc.AGCS > 0 {
-		agc(mix, sc.AGCS, 0.1, math.Pow(10, 30.0/20), fs)
+	for _, iv := range sc.Dropouts {
+		a := max(0, int(math.Ceil(iv[0]*fs)))
+		b := min(n, int(math.Ceil(iv[1]*fs)))
+		if a < b {
+			clear(mix[a:b])
+		}
 	}
-	scale(mix, level/peakAbs(mix))
 	p.mix = mix
 	return p, nil
+}
+
+// ptHPOr returns the high-passed tonal power over running samples, or pt
+// when the rotor never runs.
+func ptHPOr(p *parts, pt float64) float64 {
+	if v := runningPower(p.tonal, p.running); v > 0 {
+		return v
+	}
+	return pt
+}
+
+// addClicks adds knocks and handling noise: at Poisson times of rate
+// rateHz, a burst of white noise of peak amplitude amp decaying with a
+// time constant of 1–5 ms.
+func addClicks(x []float64, rateHz, amp, fs float64, rng *rand.Rand) {
+	t := rng.ExpFloat64() / rateHz
+	for {
+		i0 := int(t * fs)
+		if i0 >= len(x) {
+			return
+		}
+		tau := (0.001 + 0.004*rng.Float64()) * fs
+		a := amp * (0.5 + 0.5*rng.Float64())
+		for k := 0; k < int(6*tau) && i0+k < len(x); k++ {
+			x[i0+k] += a * math.Exp(-float64(k)/tau) * (2*rng.Float64() - 1)
+		}
+		t += rng.ExpFloat64() / rateHz
+	}
 }
 
 // resonate applies the resonances in place.

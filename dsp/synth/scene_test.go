@@ -318,3 +318,95 @@ func TestRandomPWMCommandsOnGrid(t *testing.T) {
 		t.Error("no PWM trigger drawn")
 	}
 }
+
+func TestRecorderFaults(t *testing.T) {
+	// Dropouts are exact zeros, the DC offset shifts the mean, a second
+	// microphone keeps the rotor and changes the noise, and its delay shifts
+	// the signal by whole samples.
+	sc := baseScene()
+	sc.SNRdB = math.Inf(1)
+	ref, _ := Render(sc)
+	sc.Dropouts = [][2]float64{{1.5, 1.55}}
+	sc.DCOffset = 0.01
+	x, _ := Render(sc)
+	for i := 24000; i < 24800; i++ {
+		if x[i] != 0 {
+			t.Fatalf("sample %d = %g inside a dropout", i, x[i])
+		}
+	}
+	var mean float64
+	for i := range x {
+		if i < 24000 || i >= 24800 {
+			mean += float64(x[i] - ref[i])
+		}
+	}
+	mean /= float64(len(x) - 800)
+	if math.Abs(mean-0.01) > 1e-6 {
+		t.Errorf("mean shift %g, want 0.01", mean)
+	}
+	sc = baseScene()
+	sc.SNRdB = math.Inf(1)
+	sc.Mic, sc.MicDelayS = 1, 10.0/16000
+	y, _ := Render(sc)
+	for i := 10; i < len(y); i++ {
+		if y[i] != ref[i-10] {
+			t.Fatalf("delayed microphone differs at %d", i)
+		}
+	}
+	sc = baseScene()
+	p0, _ := render(sc)
+	sc.Mic = 1
+	p1, _ := render(sc)
+	same := 0
+	for i := range p0.noise {
+		if p0.noise[i] == p1.noise[i] {
+			same++
+		}
+		if p0.tonal[i] != p1.tonal[i] {
+			t.Fatalf("tonal differs between microphones at %d", i)
+		}
+	}
+	if same > 10 {
+		t.Errorf("%d equal noise samples between microphones", same)
+	}
+}
+
+func TestClicks(t *testing.T) {
+	// About rate × duration bursts (Poisson), each raising the local peak.
+	sc := baseScene()
+	sc.SNRdB = math.Inf(1)
+	sc.DurationS = 20
+	quiet, _ := render(sc)
+	sc.ClickRateHz, sc.ClickDB = 2, 20
+	loud, _ := render(sc)
+	// Without clipping or AGC the output is a scaled sum; the scale is
+	// undone by regression on the click-free rendering, which leaves the
+	// clicks; count 10 ms blocks where their RMS rises above 10 % of the
+	// rotor's RMS after a quiet block.
+	var lq, qq float64
+	for i := range quiet.mix {
+		lq += loud.mix[i] * quiet.mix[i]
+		qq += quiet.mix[i] * quiet.mix[i]
+	}
+	g := qq / lq
+	thr := 0.1 * math.Sqrt(meanPower(quiet.mix))
+	const block = 160 // 10 ms at 16 kHz
+	var bursts int
+	prev := false
+	for i := 0; i+block <= len(loud.mix); i += block {
+		var e float64
+		for k := i; k < i+block; k++ {
+			d := loud.mix[k]*g - quiet.mix[k]
+			e += d * d
+		}
+		on := math.Sqrt(e/block) > thr
+		if on && !prev {
+			bursts++
+		}
+		prev = on
+	}
+	t.Logf("%d bursts in 20 s at 2 Hz", bursts)
+	if bursts < 20 || bursts > 60 { // Poisson mean 40, sd 6.3: ±3 sd
+		t.Errorf("%d bursts, want about 40", bursts)
+	}
+}
