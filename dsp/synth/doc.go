@@ -37,8 +37,9 @@
 //
 // A Scene places the rotor in a room: broadband noise at a stated SNR,
 // structural resonances, reverberation, mains hum, a fixed tone from another
-// machine, other independent machines, a phone-like high-pass, slow
-// automatic gain control and clipping. The signal chain and the SNR
+// machine, other independent machines, knocks, a phone-like high-pass, slow
+// automatic gain control, clipping, a DC offset and dropouts; Scene.Mic
+// renders further microphones of the same event. The signal chain and the SNR
 // definition are given on Scene. Render returns mono float32 samples in
 // [-1, 1]; RenderStereo adds a command (trigger) channel with an edge at
 // each throttle command. WriteWAV and EncodeWAV store the result as 16- or
