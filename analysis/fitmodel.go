@@ -116,6 +116,35 @@ func (k *fopdtKernel) riseS() float64 {
 	return at(0.9) - at(0.1)
 }
 
+// maxMass returns the largest share of the kernel's weight that falls in
+// any interval of length w: the largest fraction of an instantaneous step
+// that two track samples w apart can differ by (1 for a point kernel).
+func (k *fopdtKernel) maxMass(w float64) float64 {
+	if k.spanS() <= w {
+		return 1
+	}
+	// Cumulative weight at an offset, linear within each bin.
+	cdf := func(x float64) float64 {
+		c := 0.0
+		for j, wt := range k.w {
+			switch {
+			case x >= k.b[j]:
+				c += wt
+			case x > k.a[j]:
+				c += wt * (x - k.a[j]) / (k.b[j] - k.a[j])
+			}
+		}
+		return c
+	}
+	best := 0.0
+	for j := range k.w {
+		for _, x := range []float64{k.a[j], k.b[j] - w} {
+			best = math.Max(best, cdf(x+w)-cdf(x))
+		}
+	}
+	return math.Min(best, 1)
+}
+
 // fopdtTau caches what depends on τ alone.
 type fopdtTau struct {
 	tau  float64

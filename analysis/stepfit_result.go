@@ -76,7 +76,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		return nil, errNoFit
 	}
 	nSeen := d.n()
-	nOut := despike(d)
+	nOut := dropForeignRuns(d) + despike(d)
 	fit, err := fitFOPDT(d, opts)
 	if err != nil {
 		return nil, err
@@ -89,7 +89,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	to := math.Min(p.toS, fit.p[parT0]+math.Max(postWindowTaus*tau, minPostWindowS))
 	d2 := stepDataFrom(tr, k, hop, p.fromS, to)
 	nSeen = d2.n()
-	nOut = despike(d2)
+	nOut = dropForeignRuns(d2) + despike(d2)
 	if d2.n() >= 8 {
 		if f2, err := fitFOPDT(d2, opts); err == nil {
 			fit, d = f2, d2
@@ -308,6 +308,77 @@ func dropOutliers(d *stepData, fit *stepFitOut, limit int) int {
 		r[i] = d.sw[i]*d.y[i] - m[i]
 	}
 	return d.dropBeyond(r, limit)
+}
+
+// maxForeignRunS is the longest run of samples dropForeignRuns removes.
+const maxForeignRunS = 0.25
+
+// dropForeignRuns removes runs of samples that the track enters and leaves
+// by jumps no change of speed could make: jumps sharper than the analysis
+// window lets any step through (the kernel's largest mass within one hop
+// times the step's whole size, with margin). Such a run is the tracker
+// following another line for a while (mains hum, another machine), not
+// the rotor. Only runs shorter than maxForeignRunS with genuine samples on
+// both sides are removed. It returns how many samples went.
+func dropForeignRuns(d *stepData) int {
+	n := d.n()
+	if n < 16 {
+		return 0
+	}
+	head := median(d.y[:max(3, n/10)])
+	tail := median(d.y[n-max(3, n/5):])
+	diffs := make([]float64, 0, n-1)
+	for i := 1; i < n; i++ {
+		diffs = append(diffs, math.Abs(d.y[i]-d.y[i-1]))
+	}
+	noise := 1.4826 * median(diffs)
+	maxJump := 1.5*math.Abs(tail-head)*d.k.maxMass(d.hop) + 8*noise
+	if !(maxJump > 0) {
+		return 0
+	}
+	// Segments split at impossible jumps (a gap of g hops allows g jumps).
+	var cuts []int
+	for i := 1; i < n; i++ {
+		gap := math.Max(1, float64(d.idx[i]-d.idx[i-1]))
+		if math.Abs(d.y[i]-d.y[i-1]) > maxJump*gap {
+			cuts = append(cuts, i)
+		}
+	}
+	if len(cuts) < 2 {
+		return 0
+	}
+	drop := make([]bool, n)
+	dropped := 0
+	for c := 0; c+1 < len(cuts); c++ {
+		a, b := cuts[c], cuts[c+1] // run a..b−1, entered and left by jumps
+		if d.t[b-1]-d.t[a] > maxForeignRunS {
+			continue
+		}
+		// The samples either side must be consistent with each other
+		// across the run (the rotor went on; the tracker went elsewhere).
+		gap := float64(d.idx[b] - d.idx[a-1])
+		if math.Abs(d.y[b]-d.y[a-1]) > maxJump*gap {
+			continue
+		}
+		for i := a; i < b; i++ {
+			drop[i] = true
+			dropped++
+		}
+		c++ // the run's closing jump cannot open another run
+	}
+	if dropped == 0 {
+		return 0
+	}
+	keep := 0
+	for i := 0; i < n; i++ {
+		if drop[i] {
+			continue
+		}
+		d.t[keep], d.y[keep], d.sw[keep], d.idx[keep] = d.t[i], d.y[i], d.sw[i], d.idx[i]
+		keep++
+	}
+	d.t, d.y, d.sw, d.idx = d.t[:keep], d.y[:keep], d.sw[:keep], d.idx[:keep]
+	return dropped
 }
 
 // despike removes samples that stand out from the running median of five
