@@ -69,9 +69,21 @@ func runAnalyse(ctx context.Context, args []string, stdout, stderr io.Writer) in
 		fmt.Fprintf(stderr, "whirlfit: analyse: %v\n", err)
 		return 1
 	}
+	many := len(files) > 1
+	outs := []string{*summaryCSV}
+	for _, f := range files {
+		for _, p := range []string{*rpmCSV, *plotPath} {
+			if p != "" {
+				outs = append(outs, perFilePath(p, f, many))
+			}
+		}
+	}
+	if err := checkOutputs(*force, outs...); err != nil {
+		fmt.Fprintf(stderr, "whirlfit: analyse: %v\n", err)
+		return 1
+	}
 	res := analyseFiles(ctx, files, cfg, af.workers, newProgress(stderr, af.quiet))
 	reps, status := reportErrors(stderr, "analyse", res)
-	many := len(files) > 1
 
 	for _, r := range reps {
 		if len(r.Steps) == 0 {

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"whirlfit/analysis"
+	"whirlfit/analysis/export"
 	"whirlfit/dsp"
 )
 
@@ -323,4 +324,22 @@ func perFilePath(path, input string, many bool) string {
 	ext := filepath.Ext(path)
 	base := strings.TrimSuffix(filepath.Base(input), filepath.Ext(input))
 	return strings.TrimSuffix(path, ext) + "-" + base + ext
+}
+
+// checkOutputs returns an error naming the first of paths that exists, so
+// that a run which would be refused at the end (no -force) stops before
+// the analysis. The atomic write checks again when it writes.
+func checkOutputs(force bool, paths ...string) error {
+	if force {
+		return nil
+	}
+	for _, p := range paths {
+		if p == "" {
+			continue
+		}
+		if _, err := os.Lstat(p); err == nil {
+			return fmt.Errorf("%s: %w", p, export.ErrExists)
+		}
+	}
+	return nil
 }

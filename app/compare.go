@@ -81,6 +81,10 @@ func runCompare(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	} else {
 		names = compare.DefaultLabels(len(files))
 	}
+	if err := checkOutputs(*force, *plotPath); err != nil {
+		fmt.Fprintf(stderr, "whirlfit: compare: %v\n", err)
+		return 1
+	}
 	res := analyseFiles(ctx, files, cfg, af.workers, newProgress(stderr, af.quiet))
 	reps, status := reportErrors(stderr, "compare", res)
 	// Keep the labels of the files that were analysed.

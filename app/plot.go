@@ -66,6 +66,10 @@ func runPlot(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "whirlfit: plot: -kind must be one of %v, not %q\n", plotKinds, *kind)
 		return 2
 	}
+	if err := checkOutputs(*force, *out); err != nil {
+		fmt.Fprintf(stderr, "whirlfit: plot: %v\n", err)
+		return 1
+	}
 	res := analyseFiles(ctx, files, cfg, 1, newProgress(stderr, af.quiet))
 	reps, status := reportErrors(stderr, "plot", res)
 	if status != 0 {
