@@ -192,6 +192,10 @@ func Build(rep *analysis.Report, cfg Config) (*Model, error) {
 		if err != nil {
 			return nil, err
 		}
+		if math.IsNaN(g.K.Value) || math.IsInf(g.K.Value, 0) {
+			return nil, fmt.Errorf("control: %s: the plateau speeds give no finite gain", rep.File)
+		}
+		g.K = finiteRange(g.K.Value, g.K.CI95)
 		m.Gain = g
 	}
 	K := m.Gain.K
