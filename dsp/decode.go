@@ -104,8 +104,12 @@ func (d decoder) decode(name string, data []byte, path string) (a *Audio, err er
 		if errors.As(err, &ue) && ue.convertible {
 			d = d.withTools()
 		}
-		if errors.As(err, &ue) && ue.convertible && d.ffmpeg != "" {
-			a, err = d.decodeFFmpeg(name, data, path)
+		if errors.As(err, &ue) && ue.convertible {
+			if d.ffmpeg != "" {
+				a, err = d.decodeFFmpeg(name, data, path)
+			} else {
+				err = &UnsupportedError{File: name, Msg: ue.Msg + " and ffmpeg is not on PATH; convert it to 16-bit PCM, for example with sox IN -b 16 -e signed-integer OUT.wav"}
+			}
 		}
 	case kindFLAC:
 		a, err = decodeFLAC(name, data[off:], d.limit)
