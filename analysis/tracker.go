@@ -57,6 +57,11 @@ const (
 	refineHopS = 0.0025
 	// maxDisplayFrames bounds the display spectrogram's rows.
 	maxDisplayFrames = 2000
+	// stationaryWeight and stationarySpread tune suppressStationary: the
+	// share of the median taken off and the relative drift (±2 %) still
+	// counted as stationary.
+	stationaryWeight = 0.6
+	stationarySpread = 0.02
 	// pathSlopeCost is the Viterbi cost of a change of ln f by 1, in units
 	// of the file's typical frame salience; voicingCost is the cost of
 	// switching between motor and no motor, in the same units.
@@ -286,7 +291,21 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		for k, f := range tk.grid {
 			rp.maxJump[k] = int32(math.Ceil(math.Log1p(cfg.MaxAccelHzPerS*dt/f)/comb.logStep)) + 2
 		}
-		tk.path = rp.solve(sal)
+		// Voicing from the salience as it is; the path through the voiced
+		// frames from the salience with stationary lines pushed down.
+		voiced := rp.solve(sal)
+		if suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))) {
+			rp.force = make([]int8, T)
+			for i, k := range voiced {
+				rp.force[i] = 1
+				if k < 0 {
+					rp.force[i] = -1
+				}
+			}
+			tk.path = rp.solve(sal)
+		} else {
+			tk.path = voiced
+		}
 	}
 	sal = nil
 	tr, err = tk.refine(ctx, blades, total)
@@ -294,6 +313,51 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		return nil, nil, err
 	}
 	return tr, spec, nil
+}
+
+// suppressStationary lowers each candidate's salience by weight times its
+// median over the whole recording (where positive), dilated over ±spread
+// candidates so that a slowly drifting line counts as stationary too.
+//
+// A line that is there all the time — a fan, a pump, a second rotor at a
+// fixed speed, a whine tone, mains hum — has a high median at its
+// candidates and is pushed down; the motor, which steps between speeds,
+// has a low median at each of them and keeps its salience. The tracker
+// decides voicing on the salience before this step and only the path
+// through the voiced frames after it, so a motor that holds one speed all
+// along is still found (it loses the same share everywhere it is). This is
+// the time-domain counterpart of whitening the spectrum: what stands out is
+// what changes.
+//
+// It reports whether it changed anything.
+func suppressStationary(sal []float32, T, K int, weight float32, spread int) bool {
+	if T < 8 || weight == 0 {
+		return false
+	}
+	med := make([]float32, K)
+	col := make([]float32, T)
+	for k := 0; k < K; k++ {
+		for t := 0; t < T; t++ {
+			col[t] = sal[t*K+k]
+		}
+		med[k] = max(0, selectK(col, T/2))
+	}
+	dil := make([]float32, K)
+	for k := range dil {
+		for j := max(0, k-spread); j <= min(K-1, k+spread); j++ {
+			dil[k] = max(dil[k], med[j])
+		}
+	}
+	if slices.Max(dil) == 0 {
+		return false
+	}
+	for t := 0; t < T; t++ {
+		row := sal[t*K : (t+1)*K]
+		for k := range row {
+			row[k] -= weight * dil[k]
+		}
+	}
+	return true
 }
 
 type searchScratch struct {

@@ -1,6 +1,9 @@
 package analysis
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // ridgePath finds the globally best ridge through a salience matrix by
 // dynamic programming (the Viterbi algorithm over candidate states, as in
@@ -26,6 +29,9 @@ type ridgePath struct {
 	lambda     float32
 	switchCost float32
 	maxJump    []int32 // per candidate, nondecreasing k − maxJump[k] and k + maxJump[k]
+	// force, when not nil, fixes the voicing of frames: 1 = voiced,
+	// −1 = unvoiced, 0 = free.
+	force []int8
 }
 
 func (r *ridgePath) solve(sal []float32) []int32 {
@@ -49,6 +55,16 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 
 	copy(prev, sal[:K])
 	prevU := float32(0)
+	if r.force != nil {
+		switch r.force[0] {
+		case 1:
+			prevU = negInf
+		case -1:
+			for k := range prev {
+				prev[k] = negInf
+			}
+		}
+	}
 	for t := 1; t < T; t++ {
 		for k := range best {
 			best[k], arg[k] = negInf, -1
@@ -113,14 +129,24 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 		} else {
 			bpu[t] = -1
 		}
+		if r.force != nil {
+			switch r.force[t] {
+			case 1:
+				prevU = negInf
+			case -1:
+				for k := range cur {
+					cur[k] = negInf
+				}
+			}
+		}
 		prev, cur = cur, prev
-		// Keep the numbers bounded on long files.
-		if t%1024 == 0 {
-			off := prevU
+		// Keep the numbers bounded: subtract the best state's value.
+		if t%64 == 0 {
+			off := max(prevU, slices.Max(prev))
 			for k := range prev {
 				prev[k] -= off
 			}
-			prevU = 0
+			prevU -= off
 		}
 	}
 	// Backtrack from the best final state.
