@@ -52,8 +52,9 @@ type fftPass[T Float] struct {
 	radix, l, s        int
 	w1r, w1i, w2r, w2i []T
 	w3r, w3i           []T
-	// tw interleaves the twiddles per j for the AVX kernels (float32).
-	tw []float32
+	// tw interleaves the twiddles per j for the AVX kernels (float32);
+	// tw4 holds them as vectors per pair of j for the stride-4 kernel.
+	tw, tw4 []float32
 }
 
 // NewRealFFT returns a plan for real transforms of length n. It panics
@@ -91,6 +92,16 @@ func NewRealFFT[T Float](n int) *RealFFT[T] {
 			p.tw = make([]float32, 6*q)
 			for j := range q {
 				copy(p.tw[6*j:], []float32{float32(p.w1r[j]), float32(p.w1i[j]), float32(p.w2r[j]), float32(p.w2i[j]), float32(p.w3r[j]), float32(p.w3i[j])})
+			}
+		}
+		if r == 4 && s == 4 && q%2 == 0 {
+			p.tw4 = make([]float32, 24*q)
+			for j := 0; j < q; j += 2 {
+				for v := range 6 {
+					for l := range 8 {
+						p.tw4[24*j+8*v+l] = p.tw[6*(j+l/4)+v]
+					}
+				}
 			}
 		}
 		f.passes = append(f.passes, p)
@@ -313,6 +324,8 @@ func (f *RealFFT[T]) complexFFT(xr, xi []T, start int) {
 		switch {
 		case f.simd && p.radix == 4 && p.s%8 == 0:
 			radix4AVX8(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.l/4, p.s/8, 4*p.s, &p.tw[0])
+		case f.simd && p.radix == 4 && p.s == 4 && p.tw4 != nil:
+			radix4S4AVX(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.l/8, 4*p.l, &p.tw4[0])
 		case f.simd && p.radix == 4 && p.s == 4:
 			radix4AVX4(f32p(xr), f32p(xi), f32p(yr), f32p(yi), p.l/4, 1, 4*p.s, &p.tw[0])
 		case f.simd && p.radix == 2 && p.s%8 == 0:

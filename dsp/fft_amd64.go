@@ -44,3 +44,9 @@ func radix4FirstAVX(x, w, yr, yi *float32, q8, kbytes int, twv *float32)
 //
 //go:noescape
 func unpackAVX(zr, zi, re, im, ur, ui *float32, m, nb int, half *float32)
+
+// radix4S4AVX is the stride-4 radix-4 pass, two positions j per 8-lane
+// step; q2 = q/2, nbytes = 16·q, tw4 as built by NewRealFFT.
+//
+//go:noescape
+func radix4S4AVX(xr, xi, yr, yi *float32, q2, nbytes int, tw4 *float32)

@@ -245,10 +245,11 @@ magnitudeAVX8_k:
 	VSHUFPS $0x88, Y9, Y8, RE; \
 	VSHUFPS $0xDD, Y9, Y8, IM
 
-// FIRSTBODY: butterflies of the first pass on Y0..Y7 loaded as
-// a = (Y0, Y2), b = (Y4, Y6), c = (Y1, Y3), d = (Y5, Y7), twiddle vectors
-// at 0..160(R8), then a 4×8 transpose so that y[4j+k] is stored in order.
-#define FIRSTBODY \
+// BFLY: radix-4 butterflies on Y0..Y7 loaded as a = (Y0, Y2),
+// b = (Y4, Y6), c = (Y1, Y3), d = (Y5, Y7), with twiddle vectors
+// (w1r, w1i, w2r, w2i, w3r, w3i) at 0..160(R8); leaves y0 = (Y10, Y11),
+// y1 = (Y14, Y15), y2 = (Y12, Y13), y3 = (Y8, Y9).
+#define BFLY \
 	VADDPS Y1, Y0, Y8; \
 	VSUBPS Y1, Y0, Y0; \
 	VADDPS Y3, Y2, Y9; \
@@ -282,7 +283,11 @@ magnitudeAVX8_k:
 	VSUBPS Y5, Y8, Y8; \
 	VMULPS 128(R8), Y2, Y9; \
 	VMULPS 160(R8), Y0, Y5; \
-	VADDPS Y5, Y9, Y9; \
+	VADDPS Y5, Y9, Y9
+
+// FIRSTSTORE: 4×8 transpose of the outputs so that y[4j+k] lands in order
+// (lanes hold j = 0,1,4,5,2,3,6,7).
+#define FIRSTSTORE \
 	VUNPCKLPS Y14, Y10, Y0; \
 	VUNPCKHPS Y14, Y10, Y1; \
 	VUNPCKLPS Y8, Y12, Y2; \
@@ -349,7 +354,8 @@ first:
 	VMOVUPS 32(R11), Y9
 	VSHUFPS $0x88, Y9, Y8, Y5
 	VSHUFPS $0xDD, Y9, Y8, Y7
-	FIRSTBODY
+	BFLY
+	FIRSTSTORE
 	ADDQ $64, AX
 	ADDQ $64, R9
 	ADDQ $64, R10
@@ -391,7 +397,8 @@ firstwloop:
 	VMULPS 32(R11)(R12*1), Y9, Y9
 	VSHUFPS $0x88, Y9, Y8, Y5
 	VSHUFPS $0xDD, Y9, Y8, Y7
-	FIRSTBODY
+	BFLY
+	FIRSTSTORE
 	ADDQ $64, AX
 	ADDQ $64, R9
 	ADDQ $64, R10
@@ -465,5 +472,55 @@ unpack:
 	SUBQ $32, R9
 	DECQ R10
 	JNZ unpack
+	VZEROUPPER
+	RET
+
+// func radix4S4AVX(xr, xi, yr, yi *float32, q2, nbytes int, tw4 *float32)
+// The radix-4 pass of stride 4, two sub-transform positions j, j+1 per
+// 8-lane step (lanes t = 0..3 of j, then of j+1): inputs x[t + 4j + k·n]
+// with nbytes = 4·n, outputs y[t + 4(4j + k)]; tw4 holds per pair the six
+// twiddle vectors (w(j) ×4, w(j+1) ×4).
+TEXT ·radix4S4AVX(SB), NOSPLIT, $0-56
+	MOVQ xr+0(FP), AX
+	MOVQ xi+8(FP), BX
+	MOVQ yr+16(FP), CX
+	MOVQ yi+24(FP), DX
+	MOVQ q2+32(FP), SI
+	MOVQ nbytes+40(FP), R13
+	MOVQ tw4+48(FP), R8
+	LEAQ (R13)(R13*2), R11
+s4loop:
+	VMOVUPS (AX), Y0
+	VMOVUPS (AX)(R13*2), Y1
+	VMOVUPS (BX), Y2
+	VMOVUPS (BX)(R13*2), Y3
+	VMOVUPS (AX)(R13*1), Y4
+	VMOVUPS (AX)(R11*1), Y5
+	VMOVUPS (BX)(R13*1), Y6
+	VMOVUPS (BX)(R11*1), Y7
+	BFLY
+	VPERM2F128 $0x20, Y14, Y10, Y0
+	VPERM2F128 $0x20, Y8, Y12, Y1
+	VPERM2F128 $0x31, Y14, Y10, Y2
+	VPERM2F128 $0x31, Y8, Y12, Y3
+	VMOVUPS Y0, (CX)
+	VMOVUPS Y1, 32(CX)
+	VMOVUPS Y2, 64(CX)
+	VMOVUPS Y3, 96(CX)
+	VPERM2F128 $0x20, Y15, Y11, Y0
+	VPERM2F128 $0x20, Y9, Y13, Y1
+	VPERM2F128 $0x31, Y15, Y11, Y2
+	VPERM2F128 $0x31, Y9, Y13, Y3
+	VMOVUPS Y0, (DX)
+	VMOVUPS Y1, 32(DX)
+	VMOVUPS Y2, 64(DX)
+	VMOVUPS Y3, 96(DX)
+	ADDQ $32, AX
+	ADDQ $32, BX
+	ADDQ $128, CX
+	ADDQ $128, DX
+	ADDQ $192, R8
+	DECQ SI
+	JNZ s4loop
 	VZEROUPPER
 	RET
