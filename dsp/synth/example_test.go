@@ -2,6 +2,7 @@ package synth_test
 
 import (
 	"fmt"
+	"math/rand/v2"
 
 	"whirlfit/dsp/synth"
 )
@@ -50,4 +51,23 @@ func ExampleSteps() {
 	// Output:
 	// 326.4 Hz at 1.1 s
 	// second step from 326.4 Hz
+}
+
+// ExampleRandomScene draws cases for a generality test and checks an
+// analysis of each against its truth.
+func ExampleRandomScene() {
+	rng := rand.New(rand.NewPCG(1, 2))
+	opts := synth.DefaultRandomOptions()
+	opts.Compressed = 0 // WAV only: no ffmpeg needed
+	for range 3 {
+		c := synth.RandomScene(rng, opts)
+		chs, err := c.Render() // microphones, then the trigger if any
+		if err != nil {
+			panic(err)
+		}
+		_ = chs // analyse chs[0] (or the mix) with c.Truth.Blades ...
+		for _, s := range c.Truth.Steps {
+			_ = s // ... and compare with s.CommandS, s.FromHz, s.TargetHz, s.TauS, s.DeadS
+		}
+	}
 }

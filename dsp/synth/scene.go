@@ -117,8 +117,9 @@ type Scene struct {
 // ErrScene reports a scene that cannot be rendered.
 var ErrScene = errors.New("synth: invalid scene")
 
-// maxSamples bounds a rendering (one hour at 192 kHz).
-const maxSamples = 3600 * 192000
+// maxSamples bounds a rendering: 2^25 samples (11.6 minutes at 48 kHz),
+// which needs about 1.5 GB of working memory.
+const maxSamples = 1 << 25
 
 // Validate reports whether the scene can be rendered.
 func (sc *Scene) Validate() error {
