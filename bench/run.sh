@@ -34,7 +34,7 @@ for r in $(seq "$ROUNDS"); do
 		for w in 1 2; do
 			"$tmp/dsp.test" -test.run '^$' -test.bench "^BenchmarkSTFT60s/$1-hop$2-workers$w\$" \
 				-test.benchtime 3x 2>/dev/null |
-				awk -v w="$w" -v n="$1" -v h="$2" '/^BenchmarkSTFT60s/ { printf "go-%dworker %s %s %.6f\n", w, n, h, $3 / 1e9 }' >> "$tmp/times"
+				awk -v w="$w" -v n="$1" -v h="$2" '/^BenchmarkSTFT60s/ { for (i = 1; i < NF; i++) if ($(i+1) == "cpu-ms/op") c = $i; printf "go-%dworker %s %s %.6f %.6f\n", w, n, h, $3 / 1e9, c / 1e3 }' >> "$tmp/times"
 		done
 	done
 	echo "round $r done, load $(cut -d' ' -f1-3 /proc/loadavg)"
@@ -44,14 +44,19 @@ echo "load after:  $(cat /proc/loadavg)"
 import statistics, sys
 rows = {}
 for line in open(sys.argv[1]):
-    name, n, hop, sec = line.split()
-    rows.setdefault((n, hop), {}).setdefault(name, []).append(float(sec))
+    name, n, hop, wall, cpu = line.split()
+    d = rows.setdefault((n, hop), {}).setdefault(name, ([], []))
+    d[0].append(float(wall))
+    d[1].append(float(cpu))
+order = ["go-2worker", "go-1worker", "fftw", "scipy-float32", "scipy-float64"]
 for (n, hop), d in rows.items():
-    print(f"\n60 s of 48 kHz mono, frame {n}, hop {hop}, magnitudes (median of {len(d['fftw'])} rounds)")
-    print("  " + " ".join(f"{k}={['%.1f' % (x * 1e3) for x in v]}" for k, v in d.items()) + " (ms)")
-    med = {k: statistics.median(v) for k, v in d.items()}
-    for k in ["go-2worker", "go-1worker", "fftw", "scipy-float32", "scipy-float64"]:
-        if k in med:
-            print(f"  {k:14s} {med[k]*1e3:8.1f} ms  {60/med[k]:7.0f}x real time"
-                  f"  | go-2worker is {med[k]/med['go-2worker']:.2f}x faster")
+    print(f"\n60 s of 48 kHz mono, frame {n}, hop {hop}, magnitudes (median of {len(d['fftw'][0])} rounds)")
+    wall = {k: statistics.median(v[0]) for k, v in d.items()}
+    cpu = {k: statistics.median(v[1]) for k, v in d.items()}
+    print(f"  {'':14s} {'wall':>9s} {'x real':>7s} {'cpu':>9s}   wall ratio to go-2worker, cpu ratio to go-1worker")
+    for k in order:
+        if k in wall:
+            print(f"  {k:14s} {wall[k]*1e3:7.1f}ms {60/wall[k]:7.0f} {cpu[k]*1e3:7.1f}ms"
+                  f"   {wall[k]/wall['go-2worker']:5.2f}x  {cpu[k]/cpu['go-1worker']:5.2f}x")
+    print("  rounds (wall ms): " + "; ".join(f"{k} " + " ".join(f"{x*1e3:.0f}" for x in d[k][0]) for k in order if k in d))
 PYEOF

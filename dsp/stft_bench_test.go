@@ -36,6 +36,7 @@ func BenchmarkSTFT60s(b *testing.B) {
 			b.Run(fmt.Sprintf("%d-hop%d-workers%d", cfg.FrameLen, cfg.Hop, workers), func(b *testing.B) {
 				b.ReportAllocs()
 				frames := cfg.NumFrames(len(x))
+				cpu0 := processCPUSeconds()
 				for b.Loop() {
 					if _, err := ComputeSpectrogram(context.Background(), x, 48000, cfg, nil); err != nil {
 						b.Fatal(err)
@@ -43,6 +44,7 @@ func BenchmarkSTFT60s(b *testing.B) {
 				}
 				b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(frames), "ns/frame")
 				b.ReportMetric(60/(b.Elapsed().Seconds()/float64(b.N)), "x-realtime")
+				b.ReportMetric((processCPUSeconds()-cpu0)/float64(b.N)*1e3, "cpu-ms/op")
 			})
 		}
 	}
