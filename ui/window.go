@@ -153,7 +153,7 @@ func (w *Window) build() {
 		container.NewBorder(nil, nil, widget.NewLabelWithStyle("Steps", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}), copyBtn),
 		nil, nil, nil, w.results.table)
 	split := container.NewVSplit(plotArea, resultsArea)
-	split.Offset = 0.68
+	split.Offset = 0.64
 
 	side := container.NewVBox(
 		widget.NewLabelWithStyle("Analysis settings", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
@@ -349,6 +349,7 @@ func (w *Window) settingsChanged(s Settings) {
 	w.settings = s
 	s.save(w.prefs)
 	w.analyse(false)
+	w.compare.reanalyse()
 }
 
 // Marker edits: each one refits at once.

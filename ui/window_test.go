@@ -63,7 +63,18 @@ func openDemo(t testing.TB) (*Window, chan struct{}) {
 }
 
 func TestDemoResultsTable(t *testing.T) {
-	w, _ := openDemo(t)
+	w, ch := newTestWindow(t)
+	w.FirstStart()
+	if n := len(w.win.Canvas().Overlays().List()); n != 1 {
+		t.Errorf("first start: %d overlay(s), want the first-run note", n)
+	}
+	if !w.prefs.Bool(prefNoteSeen) {
+		t.Error("first-run note not marked as seen")
+	}
+	await(t, ch, 1)
+	if w.cur.Err != nil {
+		t.Fatalf("demo analysis failed: %v", w.cur.Err)
+	}
 	rep := w.cur.Report
 	if rep == nil || rep.Spectrogram == nil || rep.Track == nil {
 		t.Fatal("demo report lacks the spectrogram or the track")
@@ -133,6 +144,31 @@ func TestTapOnTimeAxisAddsMarkerAndRefits(t *testing.T) {
 		t.Fatalf("no step took the marker as its command time: %+v", rep.Steps)
 	}
 	t.Logf("marker at %.4f s: dead time %s ms (true %.1f ms)", w.marks.Times()[0], msEst(st.DeadTimeS), assets.Demo.Steps[0].DeadS*msPerS)
+
+	// Dragging the marker moves it (one history entry) and refits.
+	before := w.marks.Times()[0]
+	v.mu.Lock()
+	x = v.xOf(before)
+	v.mu.Unlock()
+	// Events as the desktop driver sends them: the pointer's position and
+	// the move since the last event (test.Drag sends the start position).
+	y := pos.Y + size.Height/2
+	v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+5, y)}, Dragged: fyne.Delta{DX: 5}})
+	v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+25, y)}, Dragged: fyne.Delta{DX: 20}})
+	v.DragEnd()
+	await(t, ch, 1)
+	moved := w.marks.Times()[0]
+	if !(moved > before) {
+		t.Fatalf("drag right: marker %.4f s → %.4f s, want later", before, moved)
+	}
+	if got := w.cur.Report.Config.CommandTimesS; len(got) != 1 || got[0] != moved {
+		t.Fatalf("refit after drag: command times %v, want [%v]", got, moved)
+	}
+	w.undoMarker() // undoes the whole drag
+	await(t, ch, 1)
+	if got := w.marks.Times(); len(got) != 1 || got[0] != before {
+		t.Fatalf("undo drag: markers %v, want [%v]", got, before)
+	}
 
 	// Undo removes it and refits again; Delete on a selected marker too.
 	w.undoMarker()
