@@ -5,6 +5,8 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 bash scripts/setup.sh --test
 export PATH=$PATH:/usr/local/go/bin
+# Fyne cannot parse the locale names C and POSIX and says so on every start.
+case "${LC_ALL:-${LANG:-}}" in C|C.*|POSIX|"") export LANG=en_US.UTF-8; unset LC_ALL ;; esac
 STATICCHECK=honnef.co/go/tools/cmd/staticcheck@v0.8.2
 
 echo "== gofmt"
