@@ -27,6 +27,15 @@ type Float interface{ ~float32 | ~float64 }
 // writes memory sequentially (T. G. Stockham, 1966; C. Van Loan,
 // Computational Frameworks for the Fast Fourier Transform, SIAM 1992, §1.7).
 //
+// On amd64 CPUs with AVX, float32 plans run hand-vectorised kernels
+// (fft_amd64.s, 8 lanes): the first pass fused with packing and windowing,
+// the later passes vectorised over the stride, and the unpacking with
+// reversed loads for the mirrored bins. Each kernel is the same arithmetic
+// as its Go counterpart, and TestRealFFTKernelsAgree checks them against
+// each other; the purego build tag or another architecture selects the Go
+// code. Measured (one core, CPU time, BENCHMARKS.md): 0.43 µs for n = 1024
+// and 1.9 µs for n = 4096 with AVX.
+//
 // A plan holds work buffers, so one plan must not be used by several
 // goroutines at once: give each worker its own (NewRealFFT is cheap next to
 // a spectrogram).
