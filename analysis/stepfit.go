@@ -171,9 +171,13 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 		taus[j] = tauMinS * math.Pow(tauHi/tauMinS, float64(j)/(ntau-1))
 	}
 	G := make([]float64, n)
+	// The profile runs on the running median of five samples: a monotone
+	// transition is its own running median, while a tracker that flips
+	// between lines sample by sample no longer drags the search away.
+	ym := runningMedian5(d.y)
 	sub := &stepData{y: make([]float64, len(pt)), sw: make([]float64, len(pt))}
 	for c, i := range pt {
-		sub.y[c], sub.sw[c] = d.y[i], d.sw[i]
+		sub.y[c], sub.sw[c] = ym[i], d.sw[i]
 	}
 	Gs := make([]float64, len(pt))
 	best := make([]profPoint, 0, nt0*ntau)
@@ -394,6 +398,21 @@ func smithTwoPoint(d *stepData, o stepFitOpts) (tau, t0 float64, ok bool) {
 	}
 	tau = 1.5 * (t63 - t28)
 	return tau, t63 - tau, tau > tauMinS
+}
+
+// runningMedian5 returns the running median of five samples (shorter at
+// the ends).
+func runningMedian5(y []float64) []float64 {
+	out := make([]float64, len(y))
+	win := make([]float64, 0, 5)
+	for i := range y {
+		win = win[:0]
+		for j := max(0, i-2); j <= min(len(y)-1, i+2); j++ {
+			win = append(win, y[j])
+		}
+		out[i] = median(win)
+	}
+	return out
 }
 
 func median(x []float64) float64 {

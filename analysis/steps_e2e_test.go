@@ -146,8 +146,8 @@ func TestEndToEndTriggerChannel(t *testing.T) {
 func TestEndToEndRandomScenes(t *testing.T) {
 	// Varied scenes from synth.RandomScene (benchmark-like ranges, with
 	// impairments), command times given. Logs the issue 4 benchmark
-	// figures; the assertions are loose because the numbers also measure
-	// the tracker.
+	// figures; the assertions cover the steps whose speeds the tracker got
+	// right, since the rest measure the tracker.
 	if testing.Short() {
 		t.Skip("renders and tracks several recordings")
 	}
@@ -155,9 +155,9 @@ func TestEndToEndRandomScenes(t *testing.T) {
 	opts := synth.DefaultRandomOptions()
 	opts.Compressed = 0
 	opts.MaxDurationS = 5
-	var tauErr, thErr []float64
-	in, n := 0, 0
-	for c := 0; c < 6; c++ {
+	var tauErr, thErr, okErr []float64
+	in, n, okN, okIn := 0, 0, 0, 0
+	for c := 0; c < 8; c++ {
 		cs := synth.RandomScene(rng, opts)
 		x, err := synth.Render(cs.Scene)
 		if err != nil {
@@ -184,6 +184,15 @@ func TestEndToEndRandomScenes(t *testing.T) {
 				}
 				tauErr = append(tauErr, math.Abs(r.TauS.Value/s.TauS-1))
 				thErr = append(thErr, math.Abs(r.DeadTimeS.Value-s.DeadS))
+				// Steps whose speeds the tracker got right (both plateaus
+				// within 1 %) measure the fit rather than the tracker.
+				if math.Abs(r.RPMBefore.Value/RPM(s.FromHz)-1) < 0.01 && math.Abs(r.RPMAfter.Value/RPM(s.TargetHz)-1) < 0.01 {
+					okN++
+					okErr = append(okErr, math.Abs(r.TauS.Value/s.TauS-1))
+					if r.TauS.CI95[0] <= s.TauS && s.TauS <= r.TauS.CI95[1] {
+						okIn++
+					}
+				}
 			}
 		}
 	}
@@ -191,7 +200,11 @@ func TestEndToEndRandomScenes(t *testing.T) {
 	sort.Float64s(thErr)
 	t.Logf("%d steps: τ inside its 95 %% interval %d times (%.0f %%); |τ error| median %.1f %%, 95th pct %.1f %%; |θ error| median %.2f ms",
 		n, in, 100*float64(in)/float64(max(n, 1)), 100*quantileSorted(tauErr, 0.5), 100*quantileSorted(tauErr, 0.95), 1e3*quantileSorted(thErr, 0.5))
-	if n == 0 || quantileSorted(tauErr, 0.5) > 0.25 {
-		t.Errorf("median |τ error| %.1f %% over %d steps, want well under 25 %%", 100*quantileSorted(tauErr, 0.5), n)
+	sort.Float64s(okErr)
+	t.Logf("%d steps with both speeds right to 1 %%: τ inside its interval %d times; |τ error| median %.1f %%",
+		okN, okIn, 100*quantileSorted(okErr, 0.5))
+	if okN < 3 || quantileSorted(okErr, 0.5) > 0.10 || float64(okIn) < 0.6*float64(okN) {
+		t.Errorf("where the tracker is right: %d steps, median |τ error| %.1f %%, %d inside the interval; want ≥ 3 steps, ≤ 10 %%, ≥ 60 %% inside",
+			okN, 100*quantileSorted(okErr, 0.5), okIn)
 	}
 }
