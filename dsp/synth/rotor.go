@@ -1,6 +1,7 @@
 package synth
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"sort"
@@ -80,6 +81,31 @@ func NewRotor(blades, polePairs int) Rotor {
 		SpreadDB:       2,
 		AMDepth:        0.03,
 	}
+}
+
+// maxOrder bounds harmonic counts and pole pairs (h·f must stay a sane
+// number of lines to render).
+const maxOrder = 256
+
+// validate reports values that cannot be rendered.
+func (r Rotor) validate() error {
+	switch {
+	case r.Blades < 1 || r.Blades > maxOrder:
+		return fmt.Errorf("%d blades", r.Blades)
+	case r.BladeHarmonics < 0 || r.BladeHarmonics*r.Blades > maxOrder,
+		r.ShaftHarmonics < 0 || r.ShaftHarmonics > maxOrder,
+		r.PolePairs < 0 || 6*r.PolePairs > maxOrder:
+		return fmt.Errorf("orders beyond %d (harmonics %d×%d blades, %d shaft, %d pole pairs)",
+			maxOrder, r.BladeHarmonics, r.Blades, r.ShaftHarmonics, r.PolePairs)
+	case !finite(r.BladeLevel, r.BladeRolloff, r.ShaftLevel, r.WhineLevel, r.CommutationLevel,
+		r.PWMHz, r.PWMLevel, r.RefHz, r.LevelExponent, r.SpreadDB, r.AMDepth, r.AMRateHz, r.JitterRel):
+		return fmt.Errorf("a level, rate or exponent is not finite")
+	case r.RefHz < 0 || r.SpreadDB < 0 || r.AMRateHz < 0:
+		return fmt.Errorf("negative RefHz, SpreadDB or AMRateHz")
+	case r.AMDepth < 0 || r.AMDepth >= 1 || r.JitterRel < 0 || r.JitterRel >= 0.5:
+		return fmt.Errorf("AMDepth %g outside [0, 1) or JitterRel %g outside [0, 0.5)", r.AMDepth, r.JitterRel)
+	}
+	return nil
 }
 
 func (r Rotor) refHz() float64 {
@@ -198,12 +224,14 @@ func renderRotor(r Rotor, tr Trajectory, n int, fs float64, rng *rand.Rand, with
 		}
 		am = newLowpassNoise(rate, fs, rand.New(rand.NewPCG(rng.Uint64(), 2)))
 	}
-	raw := func(k int) float64 { // trajectory at time k·dt/2, ≥ 0
+	raw := func(k int) float64 { // trajectory at time k·dt/2, in [0, fs]
 		f := tr(float64(k) * dt / 2)
 		if !(f > 0) { // also catches NaN
 			return 0
 		}
-		return f
+		// Above fs every line is silent (they fade out below Nyquist); the
+		// bound keeps the phase finite for an infinite trajectory.
+		return min(f, fs)
 	}
 	// freq is the rendered frequency at time k·dt/2; it must be called for
 	// k = 0, 1, 2, … in turn (the jitter is a stream).

@@ -151,12 +151,46 @@ func (sc *Scene) Validate() error {
 	case sc.MicDelayS < 0 || sc.MicDelayS > 1:
 		return fmt.Errorf("%w: microphone delay %g s outside 0–1", ErrScene, sc.MicDelayS)
 	}
+	if err := sc.Rotor.validate(); err != nil {
+		return fmt.Errorf("%w: rotor: %v", ErrScene, err)
+	}
+	for name, v := range map[string]float64{
+		"HumDB": sc.HumDB, "ToneDB": sc.ToneDB, "ReverbDRRdB": sc.ReverbDRRdB, "ClickDB": sc.ClickDB,
+		"HumHz": sc.HumHz, "ToneHz": sc.ToneHz, "HighPassHz": sc.HighPassHz, "SNRBandHz": sc.SNRBandHz,
+		"AGCS": sc.AGCS, "ClickRateHz": sc.ClickRateHz,
+	} {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("%w: %s is %g", ErrScene, name, v)
+		}
+	}
+	for i, r := range sc.Resonances {
+		if !finite(r.Hz, r.Q, r.GainDB) {
+			return fmt.Errorf("%w: resonance %d: %+v", ErrScene, i, r)
+		}
+	}
+	for i, d := range sc.Dropouts {
+		if !finite(d[0], d[1]) {
+			return fmt.Errorf("%w: dropout %d: %v", ErrScene, i, d)
+		}
+	}
 	for i, m := range sc.Others {
 		if m.Shaft == nil || m.Rotor.Blades < 1 {
 			return fmt.Errorf("%w: other machine %d needs a trajectory and ≥ 1 blade", ErrScene, i)
 		}
+		if err := m.Rotor.validate(); err != nil || !finite(m.LevelDB) {
+			return fmt.Errorf("%w: other machine %d: level %g dB, %v", ErrScene, i, m.LevelDB, err)
+		}
 	}
 	return nil
+}
+
+func finite(xs ...float64) bool {
+	for _, x := range xs {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return false
+		}
+	}
+	return true
 }
 
 // NumSamples returns the number of samples the scene renders.

@@ -167,6 +167,14 @@ func TestValidate(t *testing.T) {
 		{"clip 1", func(s *Scene) { s.ClipLevel = 1 }},
 		{"share", func(s *Scene) { s.RotorNoiseShare = 2 }},
 		{"other", func(s *Scene) { s.Others = []Machine{{}} }},
+		{"NaN level", func(s *Scene) { s.Rotor.BladeLevel = math.NaN() }},
+		{"Inf hum", func(s *Scene) { s.HumDB = math.Inf(1) }},
+		{"huge harmonics", func(s *Scene) { s.Rotor.BladeHarmonics = 1 << 30 }},
+		{"NaN resonance", func(s *Scene) { s.Resonances = []Resonance{{Hz: 100, Q: math.NaN(), GainDB: 3}} }},
+		{"NaN other level", func(s *Scene) {
+			s.Others = []Machine{{Rotor: NewRotor(2, 0), Shaft: Constant(50), LevelDB: math.NaN()}}
+		}},
+		{"jitter", func(s *Scene) { s.Rotor.JitterRel = 2 }},
 	}
 	for _, c := range cases {
 		sc := baseScene()
@@ -187,6 +195,8 @@ func TestNaNTrajectory(t *testing.T) {
 			return math.NaN()
 		case t < 2:
 			return -50
+		case t < 2.5:
+			return math.Inf(1)
 		}
 		return 200
 	}
