@@ -29,10 +29,10 @@ func decodeFLAC(name string, data []byte, limit int) (a *Audio, err error) {
 		return nil, &UnsupportedError{File: name, Msg: fmt.Sprintf("sample rate %d Hz outside the %d–%d Hz whirlfit reads; resample it, for example with sox IN -r 48000 OUT.wav", rate, MinSampleRate, MaxSampleRate)}
 	}
 
-	// Reserve what the header announces only up to the input size: a
-	// header may lie, and real audio does not compress to under a byte per
-	// frame.
-	hint := min(info.NSamples, uint64(len(data)))
+	// Reserve what the header announces only up to the input size and the
+	// sample limit: a header may lie, and real audio does not compress to
+	// under a byte per frame.
+	hint := min(info.NSamples, uint64(len(data)), uint64(limit/nch))
 	chans := make([][]float32, nch)
 	for c := range chans {
 		chans[c] = make([]float32, 0, hint)
