@@ -1,6 +1,7 @@
 package dsp_test
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -61,4 +62,22 @@ func TestSynthWAVRoundTrip(t *testing.T) {
 		}
 		t.Logf("%d bits: %s, largest error %.3g", bits, a.Codec, worst)
 	}
+}
+
+func ExampleDecodeFile() {
+	a, err := dsp.DecodeFile("../testdata/sine1k_s16.wav") // sox-generated, see testdata/README.md
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	l := dsp.Levels(a)
+	fmt.Printf("%s %s, %d Hz, %d-bit, %d channel(s), %.3f s\n", a.Container, a.Codec, a.SampleRate, a.Bits, len(a.Channels), a.DurationS())
+	fmt.Printf("peak %.2f dBFS, RMS %.2f dBFS, %d clipped\n", l.PeakDBFS, l.RMSDBFS, l.Clipped)
+
+	_, err = dsp.Decode("notes.wav", []byte("not audio at all\n"))
+	fmt.Println(err)
+	// Output:
+	// WAV PCM, 48000 Hz, 16-bit, 1 channel(s), 0.100 s
+	// peak -6.02 dBFS, RMS -9.03 dBFS, 0 clipped
+	// notes.wav: a text file, not audio (it starts "not audio at all")
 }
