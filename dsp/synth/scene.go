@@ -342,6 +342,9 @@ func render(sc Scene) (*parts, error) {
 	}
 	if sc.ReverbS > 0 {
 		h := roomResponse(sc.ReverbS, sc.ReverbDRRdB, fs, sc.micRng(streamReverb))
+		if len(h) > n {
+			h = h[:n] // the rest of the tail falls after the recording
+		}
 		mix = convolve(mix, h)
 	}
 	level := sc.PeakLevel
