@@ -88,11 +88,12 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	tau := math.Exp(fit.p[parLnTau])
 	to := math.Min(p.toS, fit.p[parT0]+math.Max(postWindowTaus*tau, minPostWindowS))
 	d2 := stepDataFrom(tr, k, hop, p.fromS, to)
-	nSeen = d2.n()
-	nOut = dropForeignRuns(d2) + despike(d2)
+	nSeen2 := d2.n()
+	nOut2 := dropForeignRuns(d2) + despike(d2)
 	if d2.n() >= 8 {
 		if f2, err := fitFOPDT(d2, opts); err == nil {
 			fit, d = f2, d2
+			nSeen, nOut = nSeen2, nOut2
 			p.toS = to
 		}
 	}
@@ -161,7 +162,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if cfg.Bootstrap > 0 {
 		lower, upper := fitBounds(d, opts, free)
 		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
-		bs := blockBootstrap(d, fit, lower, upper, 2*winLag, cfg.Bootstrap, scale, cfg.Seed^(stepNo*0x9e3779b97f4a7c15))
+		bs := blockBootstrap(d, fit, lower, upper, winLag, cfg.Bootstrap, scale, cfg.Seed^(stepNo*0x9e3779b97f4a7c15))
 		if bs != nil {
 			for c, q := range free {
 				switch q {

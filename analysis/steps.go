@@ -15,7 +15,7 @@ type StepConfig struct {
 	// steps are detected on the track and no dead time is reported.
 	CommandTimesS []float64
 	// Bootstrap is the number of moving-block bootstrap replicates used to
-	// cross-check each step's intervals (0: default 200; negative: none).
+	// cross-check each step's intervals (0: default 100; negative: none).
 	Bootstrap int
 	// Seed seeds the bootstrap (0 is a valid seed).
 	Seed uint64
@@ -29,7 +29,7 @@ type StepConfig struct {
 
 func (c StepConfig) withDefaults() StepConfig {
 	if c.Bootstrap == 0 {
-		c.Bootstrap = 200
+		c.Bootstrap = 100
 	}
 	if c.MinChangeFraction <= 0 {
 		c.MinChangeFraction = 0.05
@@ -80,6 +80,9 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 			plans = append(plans, stepPlan{commandS: c, onsetLo: c, onsetHi: c + maxDeadTimeS})
 		}
 		planWindows(plans, tr, &k)
+		for i := range plans {
+			markStandstill(&plans[i], tr)
+		}
 	} else {
 		var dw []string
 		plans, dw = detectSteps(tr, &k, cfg)
@@ -179,6 +182,26 @@ func planWindows(plans []stepPlan, tr *Track, k *fopdtKernel) {
 			p.onsetHi = p.onsetLo
 		}
 	}
+}
+
+// markStandstill treats a commanded step with no motor in the track before
+// its command (NaN: the rotor is silent because it is stopped) as a start
+// from standstill, r0 = 0.
+func markStandstill(p *stepPlan, tr *Track) {
+	valid, firstValid := 0, math.NaN()
+	for i, t := range tr.TimeS {
+		if t >= p.fromS && t < p.commandS && tr.Valid(i) {
+			valid++
+		}
+		if t >= p.commandS && tr.Valid(i) && math.IsNaN(firstValid) {
+			firstValid = tr.ShaftHz[i]
+		}
+	}
+	if valid >= 3 || math.IsNaN(firstValid) {
+		return
+	}
+	p.standstill = true
+	p.notes = append(p.notes, fmt.Sprintf("no motor in the track before the command: a start from standstill, the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(firstValid)))
 }
 
 // trackHop returns the median sample spacing.

@@ -115,3 +115,24 @@ func hasWarning(ws []string, part string) bool {
 	}
 	return false
 }
+
+func TestStandstillWithCommandTime(t *testing.T) {
+	// A spin-up from 0 with a given command time: nothing in the track
+	// before it, so the speed before is 0 and the fit uses the part of the
+	// rise the tracker saw (invented track).
+	spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.2, startHz: 0, noiseHz: 0.3, standstillUntilS: 0.34,
+		steps: []synthStep{{commandS: 0.3, deadS: 0.005, tauS: 0.06, toHz: 320}}}
+	tr := spec.track(rand.New(rand.NewPCG(8, 8)))
+	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.3}, Bootstrap: -1})
+	if len(res) != 1 {
+		t.Fatalf("%d steps, want 1", len(res))
+	}
+	r := res[0]
+	t.Logf("τ %.4f s [%.4f, %.4f], θ %.4f s, rpm %.0f → %.0f, warnings %q", r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1], r.DeadTimeS.Value, r.RPMBefore.Value, r.RPMAfter.Value, r.Warnings)
+	if r.RPMBefore.Value != 0 || !hasWarning(r.Warnings, "standstill") {
+		t.Errorf("rpm before %.0f, warnings %q; want 0 and a standstill warning", r.RPMBefore.Value, r.Warnings)
+	}
+	if math.Abs(r.TauS.Value/0.06-1) > 0.1 || math.Abs(r.RPMAfter.Value-RPM(320)) > 50 {
+		t.Errorf("τ %.4f s, rpm after %.0f; want 0.06 s ± 10 %%, %.0f", r.TauS.Value, r.RPMAfter.Value, RPM(320))
+	}
+}
