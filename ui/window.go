@@ -5,10 +5,12 @@ import (
 	"errors"
 	"fmt"
 	"path/filepath"
+	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
 	"fyne.io/fyne/v2/data/binding"
+	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
 
@@ -58,6 +60,7 @@ type Window struct {
 	readout    *widget.Label
 	status     *widget.Label
 	progress   binding.Float
+	warnBtn    *widget.Button
 	progBar    *widget.ProgressBar
 	cancelBtn  *widget.Button
 	modeRadio  *widget.RadioGroup
@@ -104,6 +107,8 @@ func (w *Window) build() {
 	w.progBar.Hide()
 	w.cancelBtn = widget.NewButtonWithIcon("Cancel", theme.CancelIcon(), w.cancelRun)
 	w.cancelBtn.Hide()
+	w.warnBtn = widget.NewButtonWithIcon("Warnings", theme.WarningIcon(), w.showWarnings)
+	w.warnBtn.Hide()
 
 	w.modeRadio = widget.NewRadioGroup([]string{"Spectrogram", "rpm"}, func(s string) {
 		if s == "rpm" {
@@ -161,7 +166,7 @@ func (w *Window) build() {
 		widget.NewSeparator(),
 		hint,
 	)
-	statusBar := container.NewBorder(nil, nil, nil, w.cancelBtn, container.NewVBox(w.progBar, w.status))
+	statusBar := container.NewBorder(nil, nil, nil, container.NewHBox(w.warnBtn, w.cancelBtn), container.NewVBox(w.progBar, w.status))
 	analysisTab := container.NewBorder(nil, statusBar, nil, container.NewVScroll(container.NewPadded(side)), split)
 
 	w.tabs = container.NewAppTabs(
@@ -302,8 +307,15 @@ func (w *Window) apply(rec *recording, res runResult, err error, keepView bool) 
 		return
 	}
 	rec.Report = res.report
-	if rec.Audio != nil {
-		w.panel.set(w.settings, len(rec.Audio.Channels))
+	if a := rec.Audio; a != nil {
+		w.panel.set(w.settings, len(a.Channels))
+		w.fileLabel.SetText(fmt.Sprintf("%s — %s %s, %d bit, %d Hz, %d channel(s), %.1f s",
+			rec.name(), a.Container, a.Codec, a.Bits, a.SampleRate, len(a.Channels), a.DurationS()))
+	}
+	if len(res.report.Warnings) > 0 {
+		w.warnBtn.Show()
+	} else {
+		w.warnBtn.Hide()
 	}
 	w.view.SetData(res.report, stepCurves(res.report), keepView)
 	if !keepView {
@@ -446,6 +458,27 @@ func (w *Window) showCursor(t, y float64, mode plotMode, inside bool) {
 // shaftFromBladePass inverts analysis.BladePassHz for one blade count.
 func shaftFromBladePass(hz float64, blades int) float64 {
 	return hz / analysis.BladePassHz(1, blades)
+}
+
+// showWarnings lists everything the analysis warned about.
+func (w *Window) showWarnings() {
+	if w.cur == nil || w.cur.Report == nil {
+		return
+	}
+	var b strings.Builder
+	for _, s := range w.cur.Report.Warnings {
+		b.WriteString("• " + s + "\n")
+	}
+	for i, st := range w.cur.Report.Steps {
+		for _, s := range st.Warnings {
+			fmt.Fprintf(&b, "• step %d: %s\n", i+1, s)
+		}
+	}
+	l := widget.NewLabel(b.String())
+	l.Wrapping = fyne.TextWrapWord
+	sc := container.NewVScroll(l)
+	sc.SetMinSize(fyne.NewSize(560, 320))
+	dialog.ShowCustom("Warnings — "+w.cur.name(), "Close", sc, w.win)
 }
 
 func (w *Window) copyResults() {
