@@ -6,6 +6,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
@@ -41,6 +42,10 @@ type stepJSON struct {
 	TauS      float64 `json:"tau_s"`
 	FromRPM   float64 `json:"rpm_before"`
 	ToRPM     float64 `json:"rpm_after"`
+	// Local SNR (MeasureSNR) over 0.2 s before the command and over
+	// [start + 3τ, start + 3τ + 0.2 s).
+	SNRBefore float64 `json:"snr_before_db"`
+	SNRAfter  float64 `json:"snr_after_db"`
 }
 
 type rampJSON struct {
@@ -88,13 +93,22 @@ func TestDumpCases(t *testing.T) {
 		}
 		j := caseJSON{File: name, Blades: c.Truth.Blades, SampleRate: c.Scene.SampleRate, DurationS: c.Scene.DurationS,
 			SNRdB: c.Scene.SNRdB, Standstill: c.Truth.Standstill, TriggerCh: trig, Impairments: c.Truth.Impairments, Summary: c.String()}
+		var ivs [][2]float64
 		for _, s := range c.Truth.Steps {
+			a := s.StartS() + 3*s.TauS
+			ivs = append(ivs, [2]float64{math.Max(0, s.CommandS-0.2), s.CommandS}, [2]float64{a, math.Min(a+0.2, c.Scene.DurationS)})
+		}
+		snr, err := MeasureSNR(c.Scene, ivs...)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, s := range c.Truth.Steps {
 			d := "down"
 			if s.Up() {
 				d = "up"
 			}
 			j.Steps = append(j.Steps, stepJSON{Direction: d, CommandS: s.CommandS, StartS: s.StartS(), DeadS: s.DeadS,
-				TauS: s.TauS, FromRPM: 60 * s.FromHz, ToRPM: 60 * s.TargetHz})
+				TauS: s.TauS, FromRPM: 60 * s.FromHz, ToRPM: 60 * s.TargetHz, SNRBefore: snr[2*i], SNRAfter: snr[2*i+1]})
 		}
 		for _, r := range c.Truth.Ramps {
 			j.Ramps = append(j.Ramps, rampJSON{r.T0S, r.T1S, 60 * r.FromHz, 60 * r.ToHz})

@@ -87,3 +87,32 @@ func TestSNRBand(t *testing.T) {
 		t.Errorf("noise ratio %.2f dB, want 6.02", got)
 	}
 }
+
+func TestMeasureSNR(t *testing.T) {
+	// Over the whole recording MeasureSNR gives SNRdB; on the plateaus of a
+	// 150 → 300 Hz step the amplitude law (exponent 2: power ∝ f⁴) puts the
+	// slow part 12.04 dB below the fast one, less the ±0.3 dB spread of the
+	// random modulation and noise estimate.
+	sc := baseScene()
+	sc.AGCS, sc.ClipLevel = 0, 0
+	sc.Rotor.SpreadDB = 0
+	v, err := MeasureSNR(sc, [2]float64{0, sc.DurationS}, [2]float64{0, 1}, [2]float64{1.5, 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	all, slow, fast := v[0], v[1], v[2]
+	t.Logf("whole %.2f dB (want %.1f), slow %.2f dB, fast %.2f dB, difference %.2f dB (want 12.04)", all, sc.SNRdB, slow, fast, fast-slow)
+	if math.Abs(all-sc.SNRdB) > 0.05 {
+		t.Errorf("whole-recording SNR %.2f dB, want %.1f", all, sc.SNRdB)
+	}
+	if math.Abs(fast-slow-12.04) > 0.5 {
+		t.Errorf("fast − slow = %.2f dB, want 12.04", fast-slow)
+	}
+	sc.SNRdB = math.Inf(1)
+	if v, _ := MeasureSNR(sc, [2]float64{0, 1}); !math.IsInf(v[0], 1) {
+		t.Errorf("noiseless: %g, want +Inf", v[0])
+	}
+	if _, err := MeasureSNR(sc, [2]float64{2, 1}); err == nil {
+		t.Error("empty interval accepted")
+	}
+}

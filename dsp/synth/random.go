@@ -50,6 +50,12 @@ type RandomOptions struct {
 	// every step settles enough to be fitted (0 = no such rule).
 	MinGapS    float64
 	SettleTaus float64
+	// MaxSpeedRatio bounds the ratio of the highest to the lowest shaft
+	// frequency within one recording (one motor's working band inside
+	// ShaftHz); 0 means no bound. With tonal power ∝ f^(2·LevelExponent),
+	// a ratio of 2.5 keeps the quietest level within about 16–20 dB of the
+	// loudest.
+	MaxSpeedRatio float64
 	// MinChange is the smallest relative change of a step, |Δ|/r0. When
 	// ShaftHz is too narrow for it, a step may be smaller.
 	MinChange float64
@@ -96,6 +102,7 @@ func DefaultRandomOptions() *RandomOptions {
 		MinGapS:       0.25,
 		SettleTaus:    3,
 		MinChange:     0.15,
+		MaxSpeedRatio: 2.5,
 		Impairment:    0.5,
 		Standstill:    0.15,
 		Ramp:          0.15,
@@ -250,6 +257,12 @@ func RandomScene(rng *rand.Rand, opts *RandomOptions) Case {
 	// Levels and steps.
 	nSteps := o.MinSteps + rng.IntN(o.MaxSteps-o.MinSteps+1)
 	lo, hi := o.ShaftHz.Min, math.Max(o.ShaftHz.Max, o.ShaftHz.Min)
+	if r := o.MaxSpeedRatio; r > 1 && hi > r*lo {
+		// One motor's working band inside the overall range, drawn
+		// log-uniformly so slow and fast motors are equally likely.
+		bandLo := Range{lo, hi / r}.drawLog(rng)
+		lo, hi = bandLo, bandLo*r
+	}
 	level := lo + (hi-lo)*rng.Float64()
 	standstill := rng.Float64() < o.Standstill
 	t := 0.5 + rng.Float64() // lead-in before the first command

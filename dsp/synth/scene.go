@@ -420,6 +420,47 @@ func addClicks(x []float64, rateHz, amp, fs float64, rng *rand.Rand) {
 	}
 }
 
+// MeasureSNR renders the scene once and returns the SNR over each interval
+// [from, to) in seconds: the mean power of the high-passed tonal sound over
+// running samples in the interval over the mean power of the high-passed
+// noise in it (scaled by the whole recording's fraction below SNRBandHz
+// when that is set), before reverberation, clipping and AGC — the
+// definition of Scene.SNRdB applied locally. Because tonal amplitudes grow
+// with speed, a slow part of a recording has a lower local SNR than the
+// scene's SNRdB. A noiseless scene gives +Inf, an interval where the rotor
+// does not run −Inf.
+func MeasureSNR(sc Scene, intervals ...[2]float64) ([]float64, error) {
+	p, err := render(sc)
+	if err != nil {
+		return nil, err
+	}
+	fs := float64(sc.SampleRate)
+	out := make([]float64, len(intervals))
+	var band float64
+	if p.noise != nil {
+		if full := meanPower(p.noise); full > 0 {
+			band = bandPower(p.noise, sc.SNRBandHz, fs) / full
+		}
+	}
+	for i, iv := range intervals {
+		a := max(0, int(math.Ceil(iv[0]*fs)))
+		b := min(len(p.tonal), int(math.Ceil(iv[1]*fs)))
+		if a >= b {
+			return nil, fmt.Errorf("synth: MeasureSNR: empty interval [%g, %g) s", iv[0], iv[1])
+		}
+		pt := runningPower(p.tonal[a:b], p.running[a:b])
+		switch {
+		case p.noise == nil:
+			out[i] = math.Inf(1)
+		case pt == 0:
+			out[i] = math.Inf(-1)
+		default:
+			out[i] = 10 * math.Log10(pt/(band*meanPower(p.noise[a:b])))
+		}
+	}
+	return out, nil
+}
+
 // resonate applies the resonances in place.
 func resonate(x []float64, rs []Resonance, fs float64) {
 	for _, r := range rs {
