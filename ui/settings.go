@@ -21,6 +21,12 @@ type Settings struct {
 	MinHz    float64 // lowest shaft frequency searched, Hz; 0 = default
 	MaxHz    float64 // highest shaft frequency searched, Hz; 0 = default
 	MaxAccel float64 // largest shaft-frequency change the tracker accepts, Hz/s; 0 = default
+	// MinChangePct is the smallest speed change detection calls a step, in
+	// percent of the speed before it; 0 = default.
+	MinChangePct float64
+	// NoBootstrap skips the bootstrap cross-check of the intervals (faster
+	// refits; the analytic intervals remain).
+	NoBootstrap bool
 }
 
 // Config turns the settings and the user's command-time markers into the
@@ -33,8 +39,15 @@ func (s Settings) Config(commandTimesS []float64) analysis.Config {
 	cfg.Track.MinShaftHz = s.MinHz
 	cfg.Track.MaxShaftHz = s.MaxHz
 	cfg.Track.MaxAccelHzPerS = s.MaxAccel
+	cfg.Steps.MinChangeFraction = s.MinChangePct / percent
+	if s.NoBootstrap {
+		cfg.Steps.Bootstrap = -1
+	}
 	return cfg
 }
+
+// percent converts a fraction to percent.
+const percent = 100
 
 // Preference keys. They name what is stored, in whirlfit's own words.
 const (
@@ -45,6 +58,8 @@ const (
 	prefMinHz      = "analysis.min_shaft_hz"
 	prefMaxHz      = "analysis.max_shaft_hz"
 	prefMaxAccel   = "analysis.max_accel_hz_per_s"
+	prefMinChange  = "analysis.min_change_pct"
+	prefNoBoot     = "analysis.no_bootstrap"
 	prefLastFolder = "files.last_folder"
 	prefRecent     = "files.recent"
 	prefTheme      = "view.theme"
@@ -67,6 +82,9 @@ func loadSettings(p fyne.Preferences) Settings {
 		MinHz:    p.Float(prefMinHz),
 		MaxHz:    p.Float(prefMaxHz),
 		MaxAccel: p.Float(prefMaxAccel),
+
+		MinChangePct: p.Float(prefMinChange),
+		NoBootstrap:  p.Bool(prefNoBoot),
 	}
 }
 
@@ -79,6 +97,8 @@ func (s Settings) save(p fyne.Preferences) {
 	p.SetFloat(prefMinHz, s.MinHz)
 	p.SetFloat(prefMaxHz, s.MaxHz)
 	p.SetFloat(prefMaxAccel, s.MaxAccel)
+	p.SetFloat(prefMinChange, s.MinChangePct)
+	p.SetBool(prefNoBoot, s.NoBootstrap)
 }
 
 // addRecent puts path at the top of the recent-files list.
@@ -103,6 +123,8 @@ type settingsPanel struct {
 	blades, channel        *widget.Select
 	frameLen, hop          *widget.Select
 	minHz, maxHz, maxAccel *widget.Entry
+	minChange              *widget.Entry
+	bootstrap              *widget.Check
 	onChange               func(Settings)
 	quiet                  bool
 }
@@ -162,6 +184,8 @@ func newSettingsPanel(s Settings, onChange func(Settings)) *settingsPanel {
 		return e
 	}
 	p.minHz, p.maxHz, p.maxAccel = entry("default"), entry("default"), entry("default")
+	p.minChange = entry("default")
+	p.bootstrap = widget.NewCheck("cross-check intervals (bootstrap)", func(bool) { p.changed() })
 	apply := widget.NewButton("Apply", p.changed)
 	form := widget.NewForm(
 		widget.NewFormItem("Blades", p.blades),
@@ -171,6 +195,8 @@ func newSettingsPanel(s Settings, onChange func(Settings)) *settingsPanel {
 		widget.NewFormItem("Lowest shaft Hz", p.minHz),
 		widget.NewFormItem("Highest shaft Hz", p.maxHz),
 		widget.NewFormItem("Max change Hz/s", p.maxAccel),
+		widget.NewFormItem("Smallest step %", p.minChange),
+		widget.NewFormItem("", p.bootstrap),
 	)
 	p.box = container.NewVBox(form, apply)
 	p.set(s, 0)
@@ -198,6 +224,8 @@ func (p *settingsPanel) set(s Settings, channels int) {
 	p.minHz.SetText(floatText(s.MinHz))
 	p.maxHz.SetText(floatText(s.MaxHz))
 	p.maxAccel.SetText(floatText(s.MaxAccel))
+	p.minChange.SetText(floatText(s.MinChangePct))
+	p.bootstrap.SetChecked(!s.NoBootstrap)
 }
 
 // get reads the settings the form shows.
@@ -217,6 +245,9 @@ func (p *settingsPanel) get() Settings {
 		MinHz:    f(p.minHz),
 		MaxHz:    f(p.maxHz),
 		MaxAccel: f(p.maxAccel),
+
+		MinChangePct: f(p.minChange),
+		NoBootstrap:  !p.bootstrap.Checked,
 	}
 }
 

@@ -148,7 +148,7 @@ func (w *Window) build() {
 		container.NewHBox(w.modeRadio, widget.NewSeparator(), zoomIn, zoomOut, zoomFit, zoomSel, widget.NewSeparator(), prev, next),
 		nil, levelsBox)
 
-	hint := widget.NewLabel("Click the time axis (or Shift-click the plot) to place a command marker; drag it to move; Delete or right-click removes it. Drag on the plot to select, scroll to zoom.")
+	hint := widget.NewLabel("Click the time axis (or Shift-click the plot) to place a command marker; drag it to move; Delete or right-click removes it. With markers, exactly the marked steps are fitted. Drag on the plot to select, scroll to zoom.")
 	hint.Wrapping = fyne.TextWrapWord
 	hint.Importance = widget.LowImportance
 
