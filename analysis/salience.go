@@ -61,8 +61,8 @@ const (
 	// candidate 2·f0 loses (TestSalienceOctaveGuard).
 	shaftLineWeight = 1.0
 	// oddEvenSlack and oddEvenCost: see salience.
-	oddEvenSlack = 0.5
-	oddEvenCost  = 3
+	oddEvenSlack = 1.0
+	oddEvenCost  = 1.5
 )
 
 var floorScale = float32(1 / -math.Log(1-floorQuantile))

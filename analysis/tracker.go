@@ -77,6 +77,8 @@ const (
 	// frame disagree by more than their noise).
 	refineStartRel = 0.004
 	refineFloorRel = 0.0005
+	// profileMinHz is the lowest frequency entered in the comb profile.
+	profileMinHz = 30
 	// refineHarmonics bounds the harmonics used in refinement, in multiples
 	// of the blade count.
 	refineHarmonics = 8
@@ -552,13 +554,20 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		}
 		tr.ShaftHz[i], tr.SigmaHz[i] = f, sd
 		tr.Confidence[i] = 1 - math.Exp(-math.Max(0, float64(s.sal[kb-klo]))/float64(comb.thr[kb]))
-		// Comb profile.
+		// Comb profile: the line level matched at each lattice position,
+		// from 3 bins and profileMinHz up (below, the floor is unreliable).
+		lowest := max(3*binHz, profileMinHz)
 		for q := 1; q < profileLen; q++ {
 			x := float64(q) / profileDiv * f
-			if x > nyq {
+			if x > nyq || int(x/binHz+0.5)+1 >= bins {
 				break
 			}
-			s.prof[q] += combLevel(s.z, x/binHz)
+			if x < lowest {
+				continue
+			}
+			xb := x / binHz
+			sg := matchTolerance(xb)
+			s.prof[q] += float64(posValue(s.z, s.pk, float32(xb), float32(1/(4*sg*sg))))
 			s.profN[q]++
 		}
 	}, tk.report(total))

@@ -33,9 +33,14 @@ const (
 	fixMargin   = 1.0
 )
 
+// checkRatios in order of preference: on a near tie (tieMargin) the
+// earlier reading, and the smaller blade count, stands.
 var checkRatios = []struct{ num, den int }{
-	{1, 5}, {1, 4}, {1, 3}, {1, 2}, {2, 3}, {1, 1}, {3, 2}, {2, 1}, {3, 1}, {4, 1}, {5, 1},
+	{1, 1}, {1, 2}, {2, 1}, {1, 3}, {3, 1}, {2, 3}, {3, 2}, {1, 4}, {4, 1}, {1, 5}, {5, 1},
 }
+
+// tieMargin (nepers) is how much a later reading must beat an earlier one.
+const tieMargin = 0.3
 
 // readingScore returns the score of hypothesis (num/den, blades) and false
 // when the profile holds too few of its positions.
@@ -44,10 +49,14 @@ func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
 	step := profileDiv * num / den // q per hypothesis order
 	var bl, nb, mid float64
 	var nbl, nnb, nmid int
+	top := tk.profileTop()
 	for h := 1; ; h++ {
 		q := h * step
-		if q >= profileLen || tk.profN[q] == 0 {
+		if q > top {
 			break
+		}
+		if tk.profN[q] == 0 {
+			continue // below the profile's lowest frequency
 		}
 		if h%blades == 0 {
 			bl += tk.prof[q]
@@ -56,7 +65,7 @@ func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
 			nb += tk.prof[q]
 			nnb++
 		}
-		if qm := q - step/2; qm > 0 {
+		if qm := q - step/2; qm > 0 && tk.profN[qm] > 0 {
 			mid += tk.prof[qm]
 			nmid++
 		}
@@ -74,6 +83,24 @@ func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
 	return bl - mid - math.Max(0, nb-0.6*bl), true
 }
 
+// profileTop returns the last profile index the readings use: half an
+// order beyond the highest shaft order whose line stands profileLineZ above
+// the noise, so that the empty orders above a comb's last line do not
+// dilute the means (the last blade-pass harmonic seen sets the extent).
+func (tk *tracker) profileTop() int {
+	top := 0
+	for h := 1; h*profileDiv < profileLen; h++ {
+		if q := h * profileDiv; tk.profN[q] > 0 && tk.prof[q] >= profileLineZ {
+			top = q
+		}
+	}
+	return min(profileLen-1, top+profileDiv/2)
+}
+
+// profileLineZ is the mean excess (nepers, 1.5 ≈ 6.5 dB) that marks a line
+// in the comb profile.
+const profileLineZ = 1.5
+
 type reading struct {
 	num, den, blades int
 	score            float64
@@ -89,7 +116,7 @@ func (tk *tracker) bestReading(fixed int) (reading, bool) {
 			if fixed > 0 && b != fixed {
 				continue
 			}
-			if s, ok := tk.readingScore(r.num, r.den, b); ok && s > best.score {
+			if s, ok := tk.readingScore(r.num, r.den, b); ok && (!found || s > best.score+tieMargin) {
 				best, found = reading{r.num, r.den, b, s}, true
 			}
 		}

@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 
 	"whirlfit/dsp"
@@ -325,5 +326,30 @@ func TestTrackRandomSweep(t *testing.T) {
 		good, n, 100*meds[len(meds)/2])
 	if good < n/2 {
 		t.Errorf("only %d of %d random cases tracked well", good, n)
+	}
+}
+
+// With Blades = 0 the tracker reads the blade count from the comb and says
+// so. The reading needs shaft-order lines; where they are weak it can
+// mistake (f0, B) for (f0·B/B', B') — the figures below show where it
+// holds. The assertion covers the case that must hold: a clear comb.
+func TestTrackEstimateBlades(t *testing.T) {
+	for _, c := range []struct {
+		blades int
+		f0     float64
+		assert bool
+	}{
+		{4, 300, true}, {5, 300, true}, {2, 300, true}, {3, 120, false},
+	} {
+		sc := synth.Scene{SampleRate: 48000, DurationS: 1.5, Shaft: synth.Constant(c.f0), Rotor: synth.NewRotor(c.blades, 7), SNRdB: 15, Seed: uint64(c.blades)}
+		tr := renderAndTrack(t, sc, TrackConfig{})
+		m, _ := meanShaft(tr, 0.2, 1.3)
+		t.Logf("true B=%d f0=%.0f Hz: estimated %d blades, shaft %.2f Hz; %q", c.blades, c.f0, tr.Blades, m, tr.Warnings)
+		if len(tr.Warnings) == 0 || !strings.Contains(tr.Warnings[0], "blade count") {
+			t.Errorf("no blade-count warning: %q", tr.Warnings)
+		}
+		if c.assert && (tr.Blades != c.blades || math.Abs(m-c.f0)/c.f0 > 0.002) {
+			t.Errorf("B=%d f0=%.0f: got %d blades at %.2f Hz", c.blades, c.f0, tr.Blades, m)
+		}
 	}
 }
