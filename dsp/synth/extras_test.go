@@ -116,3 +116,28 @@ func TestMeasureSNR(t *testing.T) {
 		t.Error("empty interval accepted")
 	}
 }
+
+func TestLowpassNoise(t *testing.T) {
+	// Unit RMS, and the lag-k autocorrelation of a one-pole low-pass of
+	// white noise is a^k with a = e^{−2π·fc/fs} (textbook AR(1) process).
+	const fs, fc = 1000.0, 5.0
+	g := newLowpassNoise(fc, fs, rand.New(rand.NewPCG(3, 3)))
+	x := make([]float64, 1<<20)
+	for i := range x {
+		x[i] = g.next()
+	}
+	p := meanPower(x)
+	var r float64
+	const lag = 20
+	for i := lag; i < len(x); i++ {
+		r += x[i] * x[i-lag]
+	}
+	r /= float64(len(x)-lag) * p
+	want := math.Exp(-2 * math.Pi * fc / fs * lag)
+	t.Logf("RMS %.3f (want 1), lag-%d correlation %.3f (want %.3f)", math.Sqrt(p), lag, r, want)
+	// 2^20 samples span about 33,000 correlation times (1/(2π·fc) = 32
+	// samples), so both estimates are good to well within 0.03.
+	if math.Abs(math.Sqrt(p)-1) > 0.03 || math.Abs(r-want) > 0.03 {
+		t.Errorf("RMS %.3f, correlation %.3f; want 1 and %.3f", math.Sqrt(p), r, want)
+	}
+}
