@@ -31,7 +31,7 @@ func (r Range) drawLog(rng *rand.Rand) float64 {
 type RandomOptions struct {
 	// SampleRates to choose from, Hz.
 	SampleRates []int
-	// Blades is the range of blade counts (inclusive).
+	// MinBlades and MaxBlades bound the blade count (inclusive).
 	MinBlades, MaxBlades int
 	// ShaftHz bounds every steady shaft frequency.
 	ShaftHz Range
@@ -59,16 +59,18 @@ type RandomOptions struct {
 	// MinChange is the smallest relative change of a step, |Δ|/r0. When
 	// ShaftHz is too narrow for it, a step may be smaller.
 	MinChange float64
-	// Impairment is the probability that each impairment (high-pass,
-	// reverberation, hum, fixed tone, other machine, clipping, AGC, rotor
-	// broadband noise, speed jitter) is switched on; 0 gives clean scenes.
+	// Impairment is the probability that each impairment is switched on:
+	// speed jitter, controller switching noise, rotor broadband noise,
+	// high-pass, reverberation, hum, fixed tone, another machine,
+	// resonances, clipping, AGC, knocks, and (at half this probability)
+	// dropouts and a DC offset. 0 gives clean scenes.
 	Impairment float64
 	// Stereo2 is the probability of a second microphone channel.
 	Stereo2 float64
 	// Standstill is the probability that the recording starts with the motor
 	// stopped; the first step is then a spin-up from 0 Hz. Ramp is the
-	// probability of a slow throttle ramp before the first step or after
-	// the last. Stereo is the probability that the case carries a trigger
+	// probability of a slow throttle ramp (1.5–3 s, up to ±10 %) before the
+	// first step. Stereo is the probability that the case carries a trigger
 	// channel (Case.Trigger).
 	Standstill, Ramp, Stereo float64
 	// MaxDurationS bounds the recording's length (0 = no bound other than
