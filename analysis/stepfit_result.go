@@ -179,6 +179,10 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		}
 	}
 
+	// An interval reaching past the search range says only that the data
+	// cannot narrow it further; keep every bound finite (and JSON-safe).
+	tauLo, tauHi = clampFinite(tauLo, tauMinS, tauMaxS), clampFinite(tauHi, tauMinS, tauMaxS)
+	t0Lo, t0Hi = clampFinite(t0Lo, p.fromS, p.toS), clampFinite(t0Hi, p.fromS, p.toS)
 	r0, dl, t0 := fit.p[parR0], fit.p[parDelta], fit.p[parT0]
 	tau = math.Exp(lnTau)
 	res := &StepResult{Direction: Up, ResponseStartS: t0}
@@ -218,8 +222,13 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		res.DeadTimeS = &Estimate{Value: th, CI95: [2]float64{math.Max(t0Lo-c, 0), math.Max(t0Hi-c, 0)}}
 		res.T63S = lin(th+tau, [numPar]float64{parT0: 1, parLnTau: tau})
 		res.T95S = lin(th+3*tau, [numPar]float64{parT0: 1, parLnTau: 3 * tau})
-		for _, e := range []*Estimate{res.T63S, res.T95S} {
-			e.CI95[0] = math.Max(e.CI95[0], 0)
+		// Never wider than the bounds of θ and τ together allow, never
+		// negative.
+		thLo, thHi := res.DeadTimeS.CI95[0], res.DeadTimeS.CI95[1]
+		for n, e := range []*Estimate{res.T63S, res.T95S} {
+			mult := float64(2*n + 1)
+			e.CI95[0] = clampFinite(e.CI95[0], thLo+mult*tauLo, thHi+mult*tauHi)
+			e.CI95[1] = clampFinite(e.CI95[1], thLo+mult*tauLo, thHi+mult*tauHi)
 		}
 	} else {
 		notes = append(notes, "dead time needs the command time (give it, or record the command on a trigger channel); the response start is reported instead")
@@ -263,6 +272,14 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		RPMBefore: RPM(r0), DeltaRPM: RPM(dl), TauS: tau, k: *k, cov: cov, tq: tq}
 	res.Fit = sf
 	return res, nil
+}
+
+// clampFinite limits v to [lo, hi] (NaN becomes lo).
+func clampFinite(v, lo, hi float64) float64 {
+	if math.IsNaN(v) {
+		return lo
+	}
+	return math.Min(math.Max(v, lo), hi)
 }
 
 // Floors of the 95 % half-widths for what the noise does not show (see

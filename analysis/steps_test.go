@@ -136,3 +136,22 @@ func TestStandstillWithCommandTime(t *testing.T) {
 		t.Errorf("τ %.4f s, rpm after %.0f; want 0.06 s ± 10 %%, %.0f", r.TauS.Value, r.RPMAfter.Value, RPM(320))
 	}
 }
+
+func TestResultsAreFinite(t *testing.T) {
+	// A step buried in noise (invented track): the intervals may be wide but
+	// every reported number must be finite, so that JSON can carry it.
+	spec := synthTrackSpec{hopS: 0.005, windowS: 0.08, durS: 1.0, startHz: 300, noiseHz: 8,
+		steps: []synthStep{{commandS: 0.4, deadS: 0.01, tauS: 0.01, toHz: 306}}}
+	tr := spec.track(rand.New(rand.NewPCG(9, 9)))
+	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.4}, Bootstrap: -1})
+	for _, r := range res {
+		for _, e := range []*Estimate{&r.TauS, r.DeadTimeS, r.T63S, r.T95S, &r.Rise1090S, &r.RPMBefore, &r.RPMAfter, &r.DeltaRPM, &r.BandwidthHz} {
+			for _, v := range []float64{e.Value, e.CI95[0], e.CI95[1]} {
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Errorf("non-finite value in %+v (warnings %q)", *e, r.Warnings)
+				}
+			}
+		}
+		t.Logf("τ %.4g s [%.4g, %.4g], t95 [%.4g, %.4g], warnings %q", r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1], r.T95S.CI95[0], r.T95S.CI95[1], r.Warnings)
+	}
+}
