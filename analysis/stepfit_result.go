@@ -230,6 +230,12 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 			e.CI95[0] = clampFinite(e.CI95[0], thLo+mult*tauLo, thHi+mult*tauHi)
 			e.CI95[1] = clampFinite(e.CI95[1], thLo+mult*tauLo, thHi+mult*tauHi)
 		}
+		if th < 1e-4 {
+			notes = append(notes, "the response starts at (or before) the command time: θ is held at 0; check the command time")
+		}
+		if res.DeltaRPM.CI95[0] <= 0 && res.DeltaRPM.CI95[1] >= 0 {
+			notes = append(notes, "no significant change of speed follows the command")
+		}
 	} else {
 		notes = append(notes, "dead time needs the command time (give it, or record the command on a trigger channel); the response start is reported instead")
 	}
