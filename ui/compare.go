@@ -207,7 +207,7 @@ func (p *comparePanel) refresh() {
 		err error
 	}
 	p.status.SetText(fmt.Sprintf("Analysing %d recording(s)…", len(todo)))
-	p.job.start(func(ctx context.Context, progress func(float64)) (any, error) {
+	p.job.start(func(ctx context.Context, progress func(float64), _ func(any)) (any, error) {
 		outs := make([]out, len(todo))
 		for i, r := range todo {
 			o := out{rec: r}
@@ -233,7 +233,7 @@ func (p *comparePanel) refresh() {
 		return outs, nil
 	}, func(f float64) {
 		p.status.SetText(fmt.Sprintf("Analysing %d recording(s)… %.0f %%", len(todo), 100*f))
-	}, func(v any, err error) {
+	}, nil, func(v any, err error) {
 		outs, _ := v.([]out)
 		for _, o := range outs {
 			o.rec.Audio, o.rec.Report, o.rec.Err = o.res.audio, o.res.report, o.err

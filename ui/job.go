@@ -25,14 +25,15 @@ type job struct {
 }
 
 // work is a background computation. progress(frac) may be called from any
-// goroutine, as often as the work likes; frac runs from 0 to 1.
-type work func(ctx context.Context, progress func(frac float64)) (any, error)
+// goroutine, as often as the work likes; frac runs from 0 to 1. partial
+// hands an intermediate result to the UI (a preview before the final one).
+type work func(ctx context.Context, progress func(frac float64), partial func(v any)) (any, error)
 
-// start cancels whatever runs and starts w on a new goroutine. onProgress
-// and onDone run on the UI goroutine, and only while this job is the
-// latest one; onDone is not called for a job that was superseded or
-// cancelled.
-func (j *job) start(w work, onProgress func(frac float64), onDone func(v any, err error)) {
+// start cancels whatever runs and starts w on a new goroutine. onProgress,
+// onPartial and onDone run on the UI goroutine, and only while this job is
+// the latest one; onDone is not called for a job that was superseded or
+// cancelled. onProgress and onPartial may be nil.
+func (j *job) start(w work, onProgress func(frac float64), onPartial func(v any), onDone func(v any, err error)) {
 	j.mu.Lock()
 	if j.cancel != nil {
 		j.cancel()
@@ -71,10 +72,20 @@ func (j *job) start(w work, onProgress func(frac float64), onDone func(v any, er
 			}
 		})
 	}
+	partial := func(v any) {
+		if onPartial == nil {
+			return
+		}
+		fyne.Do(func() {
+			if current() {
+				onPartial(v)
+			}
+		})
+	}
 	go func() {
 		defer j.wg.Done()
 		defer cancel()
-		v, err := w(ctx, progress)
+		v, err := w(ctx, progress, partial)
 		fyne.Do(func() {
 			if current() {
 				j.mu.Lock()

@@ -15,20 +15,22 @@ func TestJobSupersedes(t *testing.T) {
 	started := make(chan struct{})
 	var firstDone, secondDone atomic.Int32
 	var firstErr error
-	j.start(func(ctx context.Context, _ func(float64)) (any, error) {
+	j.start(func(ctx context.Context, _ func(float64), _ func(any)) (any, error) {
 		close(started)
 		<-ctx.Done()
 		firstErr = ctx.Err()
 		return "first", nil
-	}, nil, func(any, error) { firstDone.Add(1) })
+	}, nil, nil, func(any, error) { firstDone.Add(1) })
 	<-started
 	var got any
-	j.start(func(ctx context.Context, p func(float64)) (any, error) {
+	var partials []any
+	j.start(func(ctx context.Context, p func(float64), part func(any)) (any, error) {
 		for i := 0; i <= 1000; i++ {
 			p(float64(i) / 1000)
 		}
+		part("preview")
 		return "second", nil
-	}, func(float64) {}, func(v any, _ error) { got = v; secondDone.Add(1) })
+	}, func(float64) {}, func(v any) { partials = append(partials, v) }, func(v any, _ error) { got = v; secondDone.Add(1) })
 	j.wait()
 	if firstDone.Load() != 0 {
 		t.Error("the superseded job delivered its result")
@@ -38,6 +40,9 @@ func TestJobSupersedes(t *testing.T) {
 	}
 	if secondDone.Load() != 1 || got != "second" {
 		t.Errorf("second job: delivered %d time(s) with %v, want once with \"second\"", secondDone.Load(), got)
+	}
+	if len(partials) != 1 || partials[0] != "preview" {
+		t.Errorf("partial results: got %v, want [preview]", partials)
 	}
 	if j.running() {
 		t.Error("job still marked running after it finished")

@@ -72,6 +72,9 @@ type Window struct {
 	// afterApply, when set, is called on the UI goroutine after an
 	// analysis result has been shown (tests use it).
 	afterApply func()
+	// afterPreview, when set, is called after a new recording's preview
+	// spectrogram has been shown (benchmarks use it).
+	afterPreview func()
 }
 
 // New builds the main window's content in win (menus, shortcuts, drop
@@ -241,12 +244,17 @@ func (w *Window) analyse(keepView bool) {
 	w.progress.Set(0)
 	w.progBar.Show()
 	w.cancelBtn.Show()
-	w.analysisJob.start(func(ctx context.Context, progress func(float64)) (any, error) {
+	w.analysisJob.start(func(ctx context.Context, progress func(float64), partial func(any)) (any, error) {
 		a := audio
 		if a == nil {
 			var err error
 			if a, err = decode(path); err != nil {
 				return nil, err
+			}
+			// A new recording: show its spectrogram at once, while the
+			// tracker and the fit run.
+			if spec, err := previewSpectrogram(ctx, a); err == nil {
+				partial(preview{audio: a, spec: spec})
 			}
 		}
 		rep, err := analysis.Run(ctx, a, cfg, stageProgress(progress))
@@ -254,10 +262,49 @@ func (w *Window) analyse(keepView bool) {
 			rep.File = rec.name()
 		}
 		return runResult{audio: a, report: rep}, err
-	}, func(f float64) { w.progress.Set(f) }, func(v any, err error) {
+	}, func(f float64) { w.progress.Set(f) }, func(v any) {
+		if p, ok := v.(preview); ok && rec == w.cur && rec.Report == nil {
+			w.view.SetData(&analysis.Report{Spectrogram: p.spec, DurationS: p.audio.DurationS()}, nil, false)
+			lo, hi := w.view.Levels()
+			w.dbLo.SetValue(lo)
+			w.dbHi.SetValue(hi)
+			w.status.SetText("Tracking the rotor in " + rec.name() + " …")
+			if w.afterPreview != nil {
+				w.afterPreview()
+			}
+		}
+	}, func(v any, err error) {
 		res, _ := v.(runResult)
 		w.apply(rec, res, err, keepView)
 	})
+}
+
+// preview is a recording's display spectrogram, shown before its analysis.
+type preview struct {
+	audio *dsp.Audio
+	spec  *dsp.Spectrogram
+}
+
+// previewFrames bounds the preview's frames: a few screen widths.
+const previewFrames = 4000
+
+// previewSpectrogram computes a display copy of the recording's
+// spectrogram (the mix of its channels, default STFT) with the core's
+// reducer, so that a long recording costs little memory.
+func previewSpectrogram(ctx context.Context, a *dsp.Audio) (*dsp.Spectrogram, error) {
+	sig, err := a.Signal(dsp.Mix)
+	if err != nil {
+		return nil, err
+	}
+	r, err := dsp.NewReducer(dsp.STFTConfig{}, sig.SampleRate, len(sig.Samples), previewFrames)
+	if err != nil {
+		return nil, err
+	}
+	cfg := dsp.STFTConfig{}.Resolve(sig.SampleRate)
+	if err := cfg.Process(ctx, sig.Samples, sig.SampleRate, r.Frame, nil); err != nil {
+		return nil, err
+	}
+	return r.Spectrogram(), nil
 }
 
 // stageProgress maps the core's staged progress onto one 0–1 bar: the
