@@ -44,8 +44,9 @@ type stepJSON struct {
 	ToRPM     float64 `json:"rpm_after"`
 	// Local SNR (MeasureSNR) over 0.2 s before the command and over
 	// [start + 3τ, start + 3τ + 0.2 s).
-	SNRBefore float64 `json:"snr_before_db"`
-	SNRAfter  float64 `json:"snr_after_db"`
+	// null where it is not finite (no rotor, or no noise).
+	SNRBefore *float64 `json:"snr_before_db"`
+	SNRAfter  *float64 `json:"snr_after_db"`
 }
 
 type rampJSON struct {
@@ -108,16 +109,26 @@ func TestDumpCases(t *testing.T) {
 				d = "up"
 			}
 			j.Steps = append(j.Steps, stepJSON{Direction: d, CommandS: s.CommandS, StartS: s.StartS(), DeadS: s.DeadS,
-				TauS: s.TauS, FromRPM: 60 * s.FromHz, ToRPM: 60 * s.TargetHz, SNRBefore: snr[2*i], SNRAfter: snr[2*i+1]})
+				TauS: s.TauS, FromRPM: 60 * s.FromHz, ToRPM: 60 * s.TargetHz, SNRBefore: finiteOrNil(snr[2*i]), SNRAfter: finiteOrNil(snr[2*i+1])})
 		}
 		for _, r := range c.Truth.Ramps {
 			j.Ramps = append(j.Ramps, rampJSON{r.T0S, r.T1S, 60 * r.FromHz, 60 * r.ToHz})
 		}
-		b, _ := json.MarshalIndent(j, "", "  ")
+		b, err := json.MarshalIndent(j, "", "  ")
+		if err != nil {
+			t.Fatal(err)
+		}
 		base := name[:len(name)-len(f.Ext())]
 		if err := os.WriteFile(filepath.Join(*dumpDir, base+".json"), append(b, '\n'), 0o644); err != nil {
 			t.Fatal(err)
 		}
 		t.Logf("%s: %s", name, c)
 	}
+}
+
+func finiteOrNil(x float64) *float64 {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return nil
+	}
+	return &x
 }
