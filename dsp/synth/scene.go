@@ -134,8 +134,8 @@ func (sc *Scene) Validate() error {
 		return fmt.Errorf("%w: no shaft trajectory", ErrScene)
 	case sc.Rotor.Blades < 1:
 		return fmt.Errorf("%w: %d blades", ErrScene, sc.Rotor.Blades)
-	case math.IsNaN(sc.SNRdB):
-		return fmt.Errorf("%w: SNR is NaN", ErrScene)
+	case math.IsNaN(sc.SNRdB) || math.IsInf(sc.SNRdB, -1) || sc.SNRdB < -100:
+		return fmt.Errorf("%w: SNR %g dB (want ≥ −100 dB, or +Inf for no noise)", ErrScene, sc.SNRdB)
 	case sc.RotorNoiseShare < 0 || sc.RotorNoiseShare > 1:
 		return fmt.Errorf("%w: rotor noise share %g outside 0–1", ErrScene, sc.RotorNoiseShare)
 	case sc.ClipLevel < 0 || sc.ClipLevel >= 1:

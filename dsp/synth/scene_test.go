@@ -164,6 +164,7 @@ func TestValidate(t *testing.T) {
 		{"no shaft", func(s *Scene) { s.Shaft = nil }},
 		{"no blades", func(s *Scene) { s.Rotor.Blades = 0 }},
 		{"NaN SNR", func(s *Scene) { s.SNRdB = math.NaN() }},
+		{"-Inf SNR", func(s *Scene) { s.SNRdB = math.Inf(-1) }},
 		{"clip 1", func(s *Scene) { s.ClipLevel = 1 }},
 		{"share", func(s *Scene) { s.RotorNoiseShare = 2 }},
 		{"other", func(s *Scene) { s.Others = []Machine{{}} }},
