@@ -108,7 +108,7 @@ func runInfo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return status
 	}
 	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "file\tformat\trate Hz\tchannels\tsamples\tduration s\tpeak dBFS\tRMS dBFS\tclipped")
+	fmt.Fprintln(tw, "file\tformat\trate Hz\tchannels\tsample format\tduration s\tpeak dBFS\tRMS dBFS\tclipped")
 	for _, r := range records {
 		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%s\t%.3f\t%s\t%s\t%d\n", r.File, r.Format, r.SampleRateHz, r.Channels,
 			r.sampleFormat, r.DurationS, dbText(r.PeakDBFS), dbText(r.RMSDBFS), r.Clipped)
