@@ -60,7 +60,7 @@ const (
 	// stationaryWeight and stationarySpread tune suppressStationary: the
 	// share of the median taken off and the relative drift (±2 %) still
 	// counted as stationary.
-	stationaryWeight = 0.6
+	stationaryWeight = 0.7
 	stationarySpread = 0.02
 	// pathSlopeCost is the Viterbi cost of a change of ln f by 1, in units
 	// of the file's typical frame salience; voicingCost is the cost of

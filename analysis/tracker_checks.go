@@ -29,7 +29,7 @@ const (
 	profileLen = 30*profileDiv + 1
 	// checkMargin is how much better (nepers) another reading must score to
 	// be reported; fixMargin to replace an octave error outright.
-	checkMargin = 0.5
+	checkMargin = 1.0
 	fixMargin   = 1.0
 )
 
@@ -204,24 +204,27 @@ func ratioString(num, den int) string {
 // nepersToDB converts a power ratio in nepers (natural log) to dB.
 func nepersToDB(x float64) float64 { return 10 * x / math.Ln10 }
 
-// clippingWarning reports samples stuck at the recording's extremes.
+// clippingWarning reports a recording clipped at its extremes: samples on
+// flat tops (equal to their predecessor) at the peak level. A clean sine
+// spends over 1 % of its time within 0.1 % of its peak but seldom repeats
+// a sample value exactly there; a clipped one sits on flat tops.
 func clippingWarning(x []float32) string {
 	var peak float32
 	for _, v := range x {
 		peak = max(peak, v, -v)
 	}
-	if peak < 0.5 {
+	if peak < 0.1 {
 		return ""
 	}
 	n := 0
 	lim := 0.999 * peak
-	for _, v := range x {
-		if v >= lim || v <= -lim {
+	for i := 1; i < len(x); i++ {
+		if v := x[i]; (v >= lim || v <= -lim) && v == x[i-1] {
 			n++
 		}
 	}
 	if frac := float64(n) / float64(len(x)); frac > 1e-3 {
-		return fmt.Sprintf("the recording looks clipped: %.2f %% of samples sit at its peak level", 100*frac)
+		return fmt.Sprintf("the recording looks clipped: %.2f %% of samples sit on flat tops at its peak level", 100*frac)
 	}
 	return ""
 }

@@ -353,3 +353,22 @@ func TestTrackEstimateBlades(t *testing.T) {
 		}
 	}
 }
+
+func TestClippingWarning(t *testing.T) {
+	const n = 48000
+	sine := make([]float32, n)
+	clipped := make([]float32, n)
+	for i := range sine {
+		v := 0.9 * math.Sin(2*math.Pi*440*float64(i)/n)
+		sine[i] = float32(v)
+		clipped[i] = float32(max(-0.6, min(0.6, v)))
+	}
+	if msg := clippingWarning(sine); msg != "" {
+		t.Errorf("clean sine: %q", msg)
+	}
+	msg := clippingWarning(clipped)
+	t.Logf("sine clipped at 2/3 of its peak: %q", msg)
+	if msg == "" {
+		t.Error("clipped sine not reported")
+	}
+}
