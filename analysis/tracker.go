@@ -596,16 +596,6 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	return tr, nil
 }
 
-// combLevel returns the clamped excess at fractional bin x (max of the two
-// nearest bins), 0 outside the spectrum.
-func combLevel(z []float32, x float64) float64 {
-	b := int(x)
-	if b < 0 || b+1 >= len(z) {
-		return 0
-	}
-	return float64(min(max(max(z[b], z[b+1]), 0), zCap))
-}
-
 // poolHarmonics combines per-harmonic shaft estimates est (f_h/h, with
 // standard errors sd, from harmonic orders hs) by inverse variance, after
 // rejecting those further from the median than 4 standard errors
