@@ -77,8 +77,10 @@ const (
 	// frame disagree by more than their noise).
 	refineStartRel = 0.004
 	refineFloorRel = 0.0005
-	// profileMinHz is the lowest frequency entered in the comb profile.
+	// profileMinHz is the lowest frequency entered in the comb profile;
+	// profileEvery thins the frames that enter it.
 	profileMinHz = 30
+	profileEvery = 4
 	// refineHarmonics bounds the harmonics used in refinement, in multiples
 	// of the blade count.
 	refineHarmonics = 8
@@ -555,7 +557,11 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		tr.ShaftHz[i], tr.SigmaHz[i] = f, sd
 		tr.Confidence[i] = 1 - math.Exp(-math.Max(0, float64(s.sal[kb-klo]))/float64(comb.thr[kb]))
 		// Comb profile: the line level matched at each lattice position,
-		// from 3 bins and profileMinHz up (below, the floor is unreliable).
+		// from 3 bins and profileMinHz up (below, the floor is unreliable),
+		// on every profileEvery-th frame (it is an average).
+		if i%profileEvery != 0 {
+			return
+		}
 		lowest := max(3*binHz, profileMinHz)
 		for q := 1; q < profileLen; q++ {
 			x := float64(q) / profileDiv * f
