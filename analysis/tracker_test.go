@@ -111,8 +111,16 @@ func TestTrackSteady(t *testing.T) {
 		mean, n := meanShaft(tr, 0.2, 1.8)
 		rel := (mean - c.f0) / c.f0
 		st := compareTrack(tr, synth.Constant(c.f0), false, 0.2, 1.8)
-		t.Logf("B=%d f0=%.0f Hz SNR=%.0f dB: mean %.4f Hz (%+.4f %%), per-frame RMS %.4f %%, %d/%d frames",
-			c.blades, c.f0, c.snr, mean, 100*rel, 100*st.rmsRel, n, st.n)
+		// SigmaHz calibration: RMS error over RMS reported sigma.
+		var s2 float64
+		for i, tt := range tr.TimeS {
+			if tt >= 0.2 && tt <= 1.8 && tr.Valid(i) {
+				s2 += tr.SigmaHz[i] * tr.SigmaHz[i]
+			}
+		}
+		ratio := st.rmsRel * c.f0 / math.Sqrt(s2/float64(n))
+		t.Logf("B=%d f0=%.0f Hz SNR=%.0f dB: mean %.4f Hz (%+.4f %%), per-frame RMS %.4f %%, %d/%d frames; RMS error / RMS SigmaHz = %.2f",
+			c.blades, c.f0, c.snr, mean, 100*rel, 100*st.rmsRel, n, st.n, ratio)
 		if math.Abs(rel) > c.maxRel || n < st.n*9/10 {
 			t.Errorf("B=%d f0=%.0f SNR=%.0f: error %.4f %% over %d of %d frames, want ≤ %.1f %%", c.blades, c.f0, c.snr, 100*rel, n, st.n, 100*c.maxRel)
 		}
