@@ -17,6 +17,7 @@ var (
 	dumpDir  = flag.String("dump", "", "write random cases and their truth into this `folder` (TestDumpCases)")
 	dumpN    = flag.Int("dumpn", 45, "number of cases -dump writes")
 	dumpSeed = flag.Uint64("dumpseed", 1, "seed of the cases -dump writes")
+	dumpImp  = flag.Float64("dumpimpair", -1, "with -dump: probability of each impairment, standstill, ramp, trigger, second microphone and compressed format (negative: the defaults)")
 )
 
 // caseJSON is the truth file written beside each dumped recording.
@@ -61,6 +62,7 @@ type rampJSON struct {
 //
 //	go test ./dsp/synth -run TestDumpCases -dump /tmp/cases -dumpn 45
 //
+// -dumpimpair 0 writes clean cases (steps, noise and levels still vary).
 // Without -dump it is skipped.
 func TestDumpCases(t *testing.T) {
 	if *dumpDir == "" {
@@ -70,8 +72,12 @@ func TestDumpCases(t *testing.T) {
 		t.Fatal(err)
 	}
 	rng := rand.New(rand.NewPCG(*dumpSeed, 0xd0))
+	opts := DefaultRandomOptions()
+	if p := *dumpImp; p >= 0 {
+		opts.Impairment, opts.Standstill, opts.Ramp, opts.Stereo, opts.Stereo2, opts.Compressed = p, p, p, p, p, p
+	}
 	for k := range *dumpN {
-		c := RandomScene(rng, nil)
+		c := RandomScene(rng, opts)
 		chs, err := c.Render()
 		if err != nil {
 			t.Fatal(err)
