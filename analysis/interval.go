@@ -42,6 +42,9 @@ type corrCov struct {
 	df    float64 // degrees of freedom for the t quantile
 	rho   []float64
 	scale float64 // c
+	// ridged reports that some direction was not determined by the data
+	// (see ridgeInverseNormal).
+	ridged bool
 }
 
 // corrCovariance computes the correlated-error covariance of the free
@@ -59,8 +62,16 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 	}
 	maxLag = min(maxLag, n/4)
 	inv, err := InverseNormal(J)
+	ridged := false
 	if err != nil {
-		return nil, err
+		// A direction the data do not determine (a time constant far
+		// below what the window resolves, say): give it a huge but finite
+		// variance instead of failing, so that its interval spans the
+		// whole search range.
+		if inv, err = ridgeInverseNormal(J); err != nil {
+			return nil, err
+		}
+		ridged = true
 	}
 	// Autocorrelation over grid lags, pairs present in the data only.
 	first := idx[0]
@@ -158,7 +169,35 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 	}
 	nEff := float64(n) / math.Max(1+2*sumRho, 1)
 	df := math.Max(nEff-float64(np), 2)
-	return &corrCov{cov: cov, nEff: nEff, df: df, rho: rho, scale: c}, nil
+	return &corrCov{cov: cov, nEff: nEff, df: df, rho: rho, scale: c, ridged: ridged}, nil
+}
+
+// ridgeInverseNormal returns (JᵀJ + λI)⁻¹ with λ = 10⁻¹²·σ_max², which is
+// (JᵀJ)⁻¹ where J is well conditioned and gives an undetermined direction
+// a variance 10¹² times that of the best determined one.
+func ridgeInverseNormal(J *mat.Dense) (*mat.SymDense, error) {
+	_, np := J.Dims()
+	var jtj mat.SymDense
+	jtj.SymOuterK(1, J.T())
+	maxD := 0.0
+	for a := 0; a < np; a++ {
+		maxD = math.Max(maxD, jtj.At(a, a))
+	}
+	if !(maxD > 0) {
+		return nil, errors.New("analysis: the Jacobian is zero; parameters are not identifiable")
+	}
+	for a := 0; a < np; a++ {
+		jtj.SetSym(a, a, jtj.At(a, a)+1e-12*maxD)
+	}
+	var ch mat.Cholesky
+	if !ch.Factorize(&jtj) {
+		return nil, errors.New("analysis: parameters are not identifiable")
+	}
+	out := mat.NewSymDense(np, nil)
+	if err := ch.InverseTo(out); err != nil {
+		return nil, err
+	}
+	return out, nil
 }
 
 // tQuantile975 is the two-sided 95 % quantile of Student's t with df

@@ -118,6 +118,9 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		return nil, err
 	}
 	tq := tQuantile975(cc.df)
+	if cc.ridged {
+		p.notes = append(p.notes, "the track does not determine every parameter (typically a time constant far below the analysis window's resolution); the undetermined interval spans the search range")
+	}
 	var cov [numPar][numPar]float64
 	for a, qa := range free {
 		for b, qb := range free {
