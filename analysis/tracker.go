@@ -62,6 +62,9 @@ const (
 	// counted as stationary.
 	stationaryWeight = 0.7
 	stationarySpread = 0.02
+	// backgroundFar is how far (relative, 8 %) the path must be from a
+	// candidate for that candidate's salience to count as background.
+	backgroundFar = 0.08
 	// pathSlopeCost is the Viterbi cost of a change of ln f by 1, in units
 	// of the file's typical frame salience; voicingCost is the cost of
 	// switching between motor and no motor, in the same units.
@@ -307,6 +310,12 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 				}
 			}
 			tk.path = rp.solve(sal)
+			// Lines that stay strong while the path is elsewhere are the
+			// background: take their level off and solve once more.
+			spread := int(math.Ceil(stationarySpread / comb.logStep))
+			if suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread) {
+				tk.path = rp.solve(sal)
+			}
 		} else {
 			tk.path = voiced
 		}
@@ -359,6 +368,59 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) boo
 		row := sal[t*K : (t+1)*K]
 		for k := range row {
 			row[k] -= weight * dil[k]
+		}
+	}
+	return true
+}
+
+// suppressBackground takes off each candidate's background level: the
+// median of its salience over the voiced frames in which the path lies more
+// than far candidates away (where positive, dilated over ±spread). A line
+// that is strong while the path is elsewhere belongs to something else in
+// the room; the motor's own speeds are quiet when it runs at another one.
+// Candidates that the path is near in more than three quarters of the
+// voiced frames keep their level (a steady recording has no "elsewhere"). It reports
+// whether it changed anything.
+func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) bool {
+	voiced := 0
+	for _, k := range path {
+		if k >= 0 {
+			voiced++
+		}
+	}
+	if voiced < 16 {
+		return false
+	}
+	col := make([]float32, 0, T)
+	bg := make([]float32, K)
+	any := false
+	for k := 0; k < K; k++ {
+		col = col[:0]
+		for t, p := range path {
+			if p >= 0 && (int(p) < k-far || int(p) > k+far) {
+				col = append(col, sal[t*K+k])
+			}
+		}
+		if 4*len(col) < voiced {
+			continue
+		}
+		if m := selectK(col, len(col)/2); m > 0 {
+			bg[k], any = m, true
+		}
+	}
+	if !any {
+		return false
+	}
+	dil := make([]float32, K)
+	for k := range dil {
+		for j := max(0, k-spread); j <= min(K-1, k+spread); j++ {
+			dil[k] = max(dil[k], bg[j])
+		}
+	}
+	for t := 0; t < T; t++ {
+		row := sal[t*K : (t+1)*K]
+		for k := range row {
+			row[k] -= dil[k]
 		}
 	}
 	return true
