@@ -115,9 +115,10 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 
 // notAStep says why a detected change, once fitted, is not reported as a
 // throttle step ("" when it is one): the first-order model must describe
-// it, with a time constant below the top of the search range, and the
-// change must be significant, large enough and fast enough. (A time
-// constant far below the window's resolution is still a step.)
+// it, with a time constant inside the search range (a fit that runs to the
+// bottom of the range is a jump of the tracker to another line, which the
+// window-smoothed model cannot follow), and the change must be
+// significant, large enough and fast enough.
 func notAStep(r *StepResult, cfg StepConfig) string {
 	level := math.Max(math.Abs(r.RPMBefore.Value), math.Abs(r.RPMAfter.Value))
 	switch {
@@ -125,6 +126,8 @@ func notAStep(r *StepResult, cfg StepConfig) string {
 		return fmt.Sprintf("a first-order step does not describe it (R² = %.2f)", r.R2)
 	case r.TauS.Value >= tauMaxS*0.999:
 		return "its time constant ran to the limit of the search"
+	case r.TauS.Value <= tauMinS*1.01:
+		return "it is sharper than any first-order change seen through the analysis window (a tracking jump)"
 	case math.Abs(r.DeltaRPM.Value) < cfg.MinChangeFraction*level:
 		return fmt.Sprintf("the change of %.0f rpm is below %.0f %% of the speed", math.Abs(r.DeltaRPM.Value), 100*cfg.MinChangeFraction)
 	case r.DeltaRPM.CI95[0] <= 0 && r.DeltaRPM.CI95[1] >= 0:
