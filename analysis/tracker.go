@@ -120,28 +120,41 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //
 // Method, in three stages:
 //
-//  1. Search: a long Hann STFT; per frame the harmonic salience (see
-//     salience.go) of every candidate on a 0.25 % log grid of shaft
-//     frequencies, weighted toward blade-pass multiples; then the best path
-//     through frames by dynamic programming with an acceleration bound and
-//     an unvoiced state for frames without a motor (ridgePath).
+//  1. Search: a long Hann STFT (at least 60 ms and three periods of
+//     MinShaftHz); per frame the harmonic salience (salience.go) of every
+//     candidate on a 0.25 % log grid of shaft frequencies, read on the
+//     blade-pass comb. The voicing (motor or not, per frame) comes from the
+//     best path by dynamic programming (ridgePath: acceleration bound,
+//     absolute-slope cost, unvoiced state). The path through the voiced
+//     frames is then solved again on salience from which lines that are
+//     there all the time (suppressStationary) and lines that stay strong
+//     while the path is elsewhere (suppressBackground) have been taken off:
+//     fans, pumps, a second rotor, tones and hum cannot hold the track.
 //  2. Refinement: a shorter Hann STFT sized to the speed found. In each
 //     frame the local salience picks the best candidate near the search
-//     path, and each harmonic h's peak near h·f0 is refined with Jacobsen's
-//     complex three-bin estimator in its Hann form (dsp.InterpJacobsenHann,
-//     bias below 1e-8 bin; the alternatives measured in dsp — quadratic on
-//     log magnitude, 0.016 bin; power-scaled quadratic, 2.8e-4 bin — are
-//     worse and gain nothing in cost here, where complex bins are at hand).
-//     The harmonics' shaft estimates f_h/h are pooled by inverse variance,
-//     weight h²·SNR_h, after a robust rejection of lines that disagree with
-//     their weighted median (a passing whine or hum line).
+//     path, and each harmonic h's peak near h times the running estimate is
+//     refined with Jacobsen's complex three-bin estimator in its Hann form
+//     (dsp.InterpJacobsenHann, bias below 1e-8 bin; the alternatives
+//     measured in dsp — quadratic on log magnitude, 0.016 bin; power-scaled
+//     quadratic, 2.8e-4 bin — are worse and gain nothing in cost here,
+//     where complex bins are at hand). A line is accepted only within half
+//     a bin plus three standard errors of its prediction, and the
+//     harmonics' shaft estimates f_h/h are pooled by inverse variance,
+//     weight h²·SNR_h, after rejecting those far from their median (a
+//     passing whine or hum line beside a harmonic).
 //  3. Checks: the comb's profile along the track tells whether another
-//     blade count fits better (a warning) or, with Blades = 0, gives it.
+//     blade count fits better (a warning), corrects a clear octave error of
+//     the shaft speed (a warning), or, with Blades = 0, gives the blade
+//     count (a warning; weak where the shaft-order lines are weak).
 //
 // Each track sample is, for a slowly changing speed, the w²-weighted average
 // of the instantaneous shaft frequency over its frame (w the refinement
-// window); Track.Kernel holds that kernel (TestTrackKernel checks it on a
-// rendered step).
+// window); Track.Kernel holds that kernel. TestTrackKernel checks it on a
+// rendered step. It is an approximation when the speed crosses many bins
+// within one frame (a fast step seen through a long frame): the track then
+// follows the stronger of the old and new lines, and departs from the
+// kernel-seen truth by up to a few per cent around the step (printed by
+// TestTrackKernel).
 func TrackSignal(ctx context.Context, sig dsp.Signal, cfg TrackConfig, progress func(done, total int)) (*Track, *dsp.Spectrogram, error) {
 	fs := sig.SampleRate
 	if !(fs > 0) || math.IsInf(fs, 0) {
