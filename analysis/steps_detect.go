@@ -30,6 +30,7 @@ const (
 	detectMedianS    = 0.012
 	detectNoiseK     = 8   // change must exceed this many noise sds
 	standstillMinGap = 0.1 // leading no-motor stretch that means "from standstill"
+	maxGapStepS      = 0.4 // longest lost stretch a step may hide in
 )
 
 // detectSteps returns planned steps (without command times) and warnings.
@@ -75,6 +76,41 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		cands = append(cands, best)
 		i = j
 	}
+
+	// A change across a stretch the tracker lost (the transition itself
+	// can be where it loses the line) leaves D undefined; compare the
+	// levels either side of every gap of up to maxGapStepS instead.
+	for i := 1; i < n; {
+		if !math.IsNaN(y[i]) || math.IsNaN(y[i-1]) {
+			i++
+			continue
+		}
+		g0 := i
+		for i < n && math.IsNaN(y[i]) {
+			i++
+		}
+		g1 := i - 1
+		if i == n || tr.TimeS[g1]-tr.TimeS[g0] > maxGapStepS {
+			continue
+		}
+		b := windowMedian(y, g0-W, g0-1)
+		a := windowMedian(y, g1+1, g1+W)
+		if math.IsNaN(a) || math.IsNaN(b) || math.Abs(a-b) <= math.Max(detectNoiseK*sigma, 0.5*cfg.MinChangeFraction*math.Max(math.Abs(a), math.Abs(b))) {
+			continue
+		}
+		c := (g0 + g1) / 2
+		dup := false
+		for _, q := range cands {
+			if q >= g0-W && q <= g1+W {
+				dup = true
+				break
+			}
+		}
+		if !dup {
+			cands = append(cands, c)
+		}
+	}
+	sort.Ints(cands)
 
 	var plans []stepPlan
 	tStart := tr.TimeS[0]

@@ -38,6 +38,14 @@ func TestDetectSteps(t *testing.T) {
 			want: []want{{0.805, Up, 0.006}},
 		},
 		{
+			// The tracker lost the line during the whole transition.
+			name: "step hidden in a dropout",
+			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1.8, startHz: 220, noiseHz: 0.3,
+				steps:    []synthStep{{commandS: 0.8, deadS: 0.01, tauS: 0.04, toHz: 320}},
+				dropouts: [][2]float64{{0.805, 0.9}}},
+			want: []want{{0.81, Up, 0.04}},
+		},
+		{
 			name: "noise only",
 			spec: synthTrackSpec{hopS: 0.004, windowS: 0.05, durS: 2, startHz: 400, noiseHz: 2},
 		},
