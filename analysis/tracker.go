@@ -466,10 +466,6 @@ func pow2Nearest(x float64) int {
 	return 1 << max(0, int(math.Round(math.Log2(x))))
 }
 
-// searchTime returns the time of search frame i.
-func (tk *tracker) searchTime(i int) float64 {
-	return (float64(i*tk.search.Hop) + float64(tk.search.FrameLen)/2) / tk.fs
-}
 
 // refineScratch is one worker's state in the refinement pass.
 type refineScratch struct {
