@@ -466,7 +466,6 @@ func pow2Nearest(x float64) int {
 	return 1 << max(0, int(math.Round(math.Log2(x))))
 }
 
-
 // refineScratch is one worker's state in the refinement pass.
 type refineScratch struct {
 	wh      whitener
