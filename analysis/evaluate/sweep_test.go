@@ -51,7 +51,7 @@ func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audi
 		if *evalKeep != "" {
 			dir = *evalKeep
 		}
-		p := filepath.Join(dir, fmt.Sprintf("case%02d.%s", i, c.Format.Ext()))
+		p := filepath.Join(dir, fmt.Sprintf("case%02d%s", i, c.Format.Ext()))
 		err := synth.WriteFile(context.Background(), p, chans, sr, c.Format)
 		if err == nil {
 			return dsp.DecodeFile(p)
