@@ -59,6 +59,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	}
 	// Candidates: extreme of each run of same-signed super-threshold D.
 	var cands []int
+	lastEnd := -n
 	for i := 0; i < n; {
 		if math.IsNaN(D[i]) || math.Abs(D[i]) <= thr(i) {
 			i++
@@ -73,7 +74,17 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 			j++
 		}
-		cands = append(cands, best)
+		// A brief dip below the threshold (noise, a glitch) must not cut
+		// one transition in two: join with the previous run of the same
+		// sign when it ended less than 2W samples before.
+		if m := len(cands); m > 0 && i-lastEnd < 2*W && math.Signbit(D[cands[m-1]]) == sgn {
+			if math.Abs(D[best]) > math.Abs(D[cands[m-1]]) {
+				cands[m-1] = best
+			}
+		} else {
+			cands = append(cands, best)
+		}
+		lastEnd = j
 		i = j
 	}
 
@@ -233,6 +244,18 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		merged = append(merged, p)
 	}
 	planWindows(merged, tr, k)
+	// Judge each detected change on the stretch its own transition needs:
+	// fifteen time constants estimated from its 10–90 % time (τ ≈ that
+	// time / ln 9), at least minPostWindowS, so that later trouble in the
+	// track does not decide whether it is a step.
+	for i := range merged {
+		p := &merged[i]
+		if p.standstill || !(p.t90 > p.onsetLo) {
+			continue
+		}
+		tauEst := (p.t90 - p.onsetLo) / math.Log(9)
+		p.toS = math.Min(p.toS, p.onsetHi+math.Max(minPostWindowS, 15*tauEst))
+	}
 	return merged, warns
 }
 
