@@ -119,7 +119,15 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 			rho[k] = math.Max(rho[k], floor[k])
 		}
 	}
-	// M = JᵀRJ with R_ij = ρ_|idx_i − idx_j|.
+	// Local scale: where the residuals are locally larger than on average
+	// (a transition the model follows less well than the plateaus, a
+	// stretch of tracker trouble), the errors are taken as larger there,
+	// s_i = max(1, local RMS / overall RMS) over ±maxLag/4 samples — the
+	// heteroskedasticity-consistent idea of H. White, Econometrica 48(4),
+	// 1980 (from memory), applied to the pooled correlation. It only
+	// widens: a quiet stretch never makes the interval narrower.
+	sc := localScale(resid, max(2, maxLag/4))
+	// M = Jᵀ S R S J with R_ij = ρ_|idx_i − idx_j| and S = diag(s).
 	M := mat.NewSymDense(np, nil)
 	row := make([]float64, np)
 	for i := 0; i < n; i++ {
@@ -129,7 +137,7 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 				continue
 			}
 			j := pos[g]
-			r := rho[absInt(k)]
+			r := rho[absInt(k)] * sc[i] * sc[j]
 			for a := 0; a < np; a++ {
 				row[a] = J.At(j, a) * r
 			}
@@ -149,7 +157,11 @@ func corrCovariance(J *mat.Dense, resid []float64, idx []int, maxLag int, floor 
 	for _, r := range resid {
 		rss += r * r
 	}
-	denom := float64(n) - trHR
+	trR := 0.0
+	for _, v := range sc {
+		trR += v * v
+	}
+	denom := trR - trHR
 	if denom < float64(n)/20 {
 		denom = float64(n) / 20
 	}
@@ -198,6 +210,26 @@ func ridgeInverseNormal(J *mat.Dense) (*mat.SymDense, error) {
 		return nil, err
 	}
 	return out, nil
+}
+
+// localScale returns max(1, local RMS / overall RMS) of r over ±h samples.
+func localScale(r []float64, h int) []float64 {
+	n := len(r)
+	cum := make([]float64, n+1)
+	for i, v := range r {
+		cum[i+1] = cum[i] + v*v
+	}
+	overall := cum[n] / float64(n)
+	out := make([]float64, n)
+	for i := range out {
+		lo, hi := max(0, i-h), min(n, i+h+1)
+		local := (cum[hi] - cum[lo]) / float64(hi-lo)
+		out[i] = 1
+		if overall > 0 && local > overall {
+			out[i] = math.Sqrt(local / overall)
+		}
+	}
+	return out
 }
 
 // tQuantile975 is the two-sided 95 % quantile of Student's t with df
