@@ -3,6 +3,7 @@ package analysis
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 	"testing"
 )
@@ -222,5 +223,59 @@ func TestStepFitCurves(t *testing.T) {
 	}
 	if f.FromS >= f.OnsetS || f.ToS <= f.OnsetS {
 		t.Errorf("fit interval %.3f–%.3f s does not contain the onset %.3f s", f.FromS, f.ToS, f.OnsetS)
+	}
+}
+
+func TestBootstrapCrossCheck(t *testing.T) {
+	// The moving-block bootstrap alone (Künsch 1989) against the analytic
+	// interval alone, on the same invented trials (a subset of the range of
+	// TestStepFitCoverage, for time).
+	if testing.Short() {
+		t.Skip("refits every trial 100 times")
+	}
+	rng := rand.New(rand.NewPCG(17, 2026))
+	const trials = 48
+	inA, inB, ran := 0, 0, 0
+	for i := 0; i < trials; i++ {
+		spec, st := coverageTrial(rng)
+		tr := spec.track(rng)
+		k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
+		hop := trackHop(tr)
+		plans := []stepPlan{{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + maxDeadTimeS}}
+		planWindows(plans, tr, &k)
+		p := plans[0]
+		d := stepDataFrom(tr, &k, hop, p.fromS, p.toS)
+		opts := stepFitOpts{commandS: st.commandS, t0Lo: p.onsetLo, t0Hi: p.onsetHi}
+		fit, err := fitFOPDT(d, opts)
+		if err != nil {
+			t.Fatal(err)
+		}
+		winLag := int(math.Ceil(k.spanS()/hop)) + 1
+		maxLag := max(4*winLag, 24)
+		cc, err := corrCovariance(fit.J, fit.resid, d.idx, maxLag, kernelAutocorr(tr.Kernel, tr.KernelDtS, hop, maxLag))
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := slices.Index(fit.free, parLnTau)
+		h := tQuantile975(cc.df) * math.Sqrt(cc.cov.At(c, c))
+		lnTrue := math.Log(st.tauS)
+		if math.Abs(fit.p[parLnTau]-lnTrue) <= h {
+			inA++
+		}
+		lower, upper := fitBounds(d, opts, fit.free)
+		scale := math.Sqrt(cc.scale * float64(d.n()) / fit.rss)
+		bs := blockBootstrap(d, fit, lower, upper, winLag, 100, scale, uint64(i))
+		if bs == nil {
+			continue
+		}
+		ran++
+		if bs.lo[c] <= lnTrue && lnTrue <= bs.hi[c] {
+			inB++
+		}
+	}
+	t.Logf("%d trials: analytic τ interval covers %d (%.0f %%); block bootstrap ran on %d and covers %d (%.0f %%)",
+		trials, inA, 100*float64(inA)/trials, ran, inB, 100*float64(inB)/float64(max(ran, 1)))
+	if ran < trials/2 || float64(inB) < 0.8*float64(ran) {
+		t.Errorf("bootstrap ran on %d of %d trials and covered %d; want at least half run and ≥ 80 %% covered", ran, trials, inB)
 	}
 }
