@@ -76,7 +76,7 @@ func BenchmarkDropToResults60s(b *testing.B) {
 	cpu0 := cpuTime()
 	for i := 0; i < b.N; i++ {
 		start = time.Now()
-		w.HandleDrop(uri)
+		onUI(func() { w.HandleDrop(uri) })
 		await(b, ch, 1)
 	}
 	b.StopTimer()
@@ -113,7 +113,7 @@ func BenchmarkRecording30Min(b *testing.B) {
 		resetPeakRSS()
 		cpu0 := cpuTime()
 		start := time.Now()
-		w.HandleDrop([]fyne.URI{storage.NewFileURI(path)})
+		onUI(func() { w.HandleDrop([]fyne.URI{storage.NewFileURI(path)}) })
 		awaitFor(b, ch, 1, 40*time.Minute)
 		el := time.Since(start)
 		if w.cur.Err != nil {

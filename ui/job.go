@@ -12,6 +12,21 @@ import (
 // a display refreshes at (common practice).
 const progressInterval = time.Second / 60
 
+// uiMu serialises the UI-side callbacks of all jobs. Under the desktop
+// driver they already run one at a time on the UI goroutine and the lock is
+// never contended; under Fyne's test driver fyne.Do runs them inline on the
+// worker goroutines, and the lock keeps them (and tests, through onUI) from
+// touching widgets at the same time.
+var uiMu sync.Mutex
+
+// onUI runs f under uiMu; tests use it for their own widget actions while
+// jobs may be running.
+func onUI(f func()) {
+	uiMu.Lock()
+	defer uiMu.Unlock()
+	f()
+}
+
 // job runs one background computation at a time. Starting a new one
 // cancels the previous one; only the latest job's progress and result reach
 // the UI. It is the one place where worker goroutines hand back to the UI
@@ -67,9 +82,11 @@ func (j *job) start(w work, onProgress func(frac float64), onPartial func(v any)
 		last = now
 		pmu.Unlock()
 		fyne.Do(func() {
-			if current() {
-				onProgress(frac)
-			}
+			onUI(func() {
+				if current() {
+					onProgress(frac)
+				}
+			})
 		})
 	}
 	partial := func(v any) {
@@ -77,9 +94,11 @@ func (j *job) start(w work, onProgress func(frac float64), onPartial func(v any)
 			return
 		}
 		fyne.Do(func() {
-			if current() {
-				onPartial(v)
-			}
+			onUI(func() {
+				if current() {
+					onPartial(v)
+				}
+			})
 		})
 	}
 	go func() {
@@ -87,12 +106,14 @@ func (j *job) start(w work, onProgress func(frac float64), onPartial func(v any)
 		defer cancel()
 		v, err := w(ctx, progress, partial)
 		fyne.Do(func() {
-			if current() {
-				j.mu.Lock()
-				j.cancel = nil
-				j.mu.Unlock()
-				onDone(v, err)
-			}
+			onUI(func() {
+				if current() {
+					j.mu.Lock()
+					j.cancel = nil
+					j.mu.Unlock()
+					onDone(v, err)
+				}
+			})
 		})
 	}()
 }

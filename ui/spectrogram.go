@@ -100,7 +100,6 @@ type SpectrogramView struct {
 	dragIdx   int
 	dragStart fyne.Position
 	sel       *selection
-	hover     fyne.Position
 }
 
 type drawKey struct {
@@ -604,7 +603,6 @@ func (v *SpectrogramView) MouseIn(e *desktop.MouseEvent) { v.MouseMoved(e) }
 
 // MouseMoved reports the data under the pointer through OnCursor.
 func (v *SpectrogramView) MouseMoved(e *desktop.MouseEvent) {
-	v.hover = e.Position
 	if v.OnCursor == nil {
 		return
 	}

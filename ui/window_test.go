@@ -54,7 +54,7 @@ func newTestWindow(t testing.TB) (*Window, chan struct{}) {
 // openDemo loads the demo and waits for its analysis.
 func openDemo(t testing.TB) (*Window, chan struct{}) {
 	w, ch := newTestWindow(t)
-	w.OpenDemo()
+	onUI(func() { w.OpenDemo() })
 	await(t, ch, 1)
 	if w.cur.Err != nil {
 		t.Fatalf("demo analysis failed: %v", w.cur.Err)
@@ -64,7 +64,7 @@ func openDemo(t testing.TB) (*Window, chan struct{}) {
 
 func TestDemoResultsTable(t *testing.T) {
 	w, ch := newTestWindow(t)
-	w.FirstStart()
+	onUI(func() { w.FirstStart() })
 	if n := len(w.win.Canvas().Overlays().List()); n != 1 {
 		t.Errorf("first start: %d overlay(s), want the first-run note", n)
 	}
@@ -129,7 +129,7 @@ func TestTapOnTimeAxisAddsMarkerAndRefits(t *testing.T) {
 	v.mu.Lock()
 	x := v.xOf(cmd)
 	v.mu.Unlock()
-	test.TapAt(v, fyne.NewPos(x, pos.Y+size.Height+marginB/2))
+	onUI(func() { test.TapAt(v, fyne.NewPos(x, pos.Y+size.Height+marginB/2)) })
 	if got := w.marks.Times(); len(got) != 1 || abs(got[0]-cmd) > 0.01 {
 		t.Fatalf("markers after tap: got %v, want one near %.3f s", got, cmd)
 	}
@@ -157,9 +157,13 @@ func TestTapOnTimeAxisAddsMarkerAndRefits(t *testing.T) {
 	// Events as the desktop driver sends them: the pointer's position and
 	// the move since the last event (test.Drag sends the start position).
 	y := pos.Y + size.Height/2
-	v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+5, y)}, Dragged: fyne.Delta{DX: 5}})
-	v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+25, y)}, Dragged: fyne.Delta{DX: 20}})
-	v.DragEnd()
+	onUI(func() {
+		v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+5, y)}, Dragged: fyne.Delta{DX: 5}})
+	})
+	onUI(func() {
+		v.Dragged(&fyne.DragEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x+25, y)}, Dragged: fyne.Delta{DX: 20}})
+	})
+	onUI(func() { v.DragEnd() })
 	await(t, ch, 1)
 	moved := w.marks.Times()[0]
 	if !(moved > before) {
@@ -168,22 +172,22 @@ func TestTapOnTimeAxisAddsMarkerAndRefits(t *testing.T) {
 	if got := w.cur.Report.Config.CommandTimesS; len(got) != 1 || got[0] != moved {
 		t.Fatalf("refit after drag: command times %v, want [%v]", got, moved)
 	}
-	w.undoMarker() // undoes the whole drag
+	onUI(func() { w.undoMarker() }) // undoes the whole drag
 	await(t, ch, 1)
 	if got := w.marks.Times(); len(got) != 1 || got[0] != before {
 		t.Fatalf("undo drag: markers %v, want [%v]", got, before)
 	}
 
 	// Undo removes it and refits again; Delete on a selected marker too.
-	w.undoMarker()
+	onUI(func() { w.undoMarker() })
 	await(t, ch, 1)
 	if w.marks.Len() != 0 || len(w.cur.Report.Config.CommandTimesS) != 0 {
 		t.Fatalf("after undo: %d marker(s), command times %v", w.marks.Len(), w.cur.Report.Config.CommandTimesS)
 	}
-	w.redoMarker()
+	onUI(func() { w.redoMarker() })
 	await(t, ch, 1)
-	v.SetMarkers(w.marks.Times(), 0)
-	v.TypedKey(&fyne.KeyEvent{Name: fyne.KeyDelete})
+	onUI(func() { v.SetMarkers(w.marks.Times(), 0) })
+	onUI(func() { v.TypedKey(&fyne.KeyEvent{Name: fyne.KeyDelete}) })
 	await(t, ch, 1)
 	if w.marks.Len() != 0 {
 		t.Fatalf("after Delete: %d marker(s), want 0", w.marks.Len())
@@ -213,7 +217,7 @@ func TestDropFolderAndCompare(t *testing.T) {
 	}
 
 	w, ch := newTestWindow(t)
-	w.HandleDrop([]fyne.URI{storage.NewFileURI(dir)})
+	onUI(func() { w.HandleDrop([]fyne.URI{storage.NewFileURI(dir)}) })
 	await(t, ch, 2) // the analysis view and the comparison
 	w.wait()
 	if w.cur.Path != want[0] {
@@ -245,7 +249,7 @@ func TestDropFolderAndCompare(t *testing.T) {
 	}
 
 	// Nothing usable dropped: a message, no crash.
-	w.HandleDrop([]fyne.URI{storage.NewFileURI(filepath.Join(dir, "missing.wav"))})
+	onUI(func() { w.HandleDrop([]fyne.URI{storage.NewFileURI(filepath.Join(dir, "missing.wav"))}) })
 	if !strings.Contains(w.status.Text, "Nothing to open") {
 		t.Errorf("status after an empty drop: %q", w.status.Text)
 	}
@@ -255,8 +259,9 @@ func TestDropFolderAndCompare(t *testing.T) {
 // cancels the first, so only the newest result is shown.
 func TestSettingsRerunNewestWins(t *testing.T) {
 	w, ch := openDemo(t)
-	w.panel.blades.SetSelected("3")
-	w.panel.blades.SetSelected("2")
+	// The first run's progress may already be coming in: act under onUI.
+	onUI(func() { w.panel.blades.SetSelected("3") })
+	onUI(func() { w.panel.blades.SetSelected("2") })
 	await(t, ch, 1)
 	w.wait()
 	if got := w.cur.Report.Config.Blades; got != 2 {
