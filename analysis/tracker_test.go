@@ -2,6 +2,7 @@ package analysis
 
 import (
 	"context"
+	"errors"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -378,5 +379,46 @@ func TestClippingWarning(t *testing.T) {
 	t.Logf("sine clipped at 2/3 of its peak: %q", msg)
 	if msg == "" {
 		t.Error("clipped sine not reported")
+	}
+}
+
+// Degenerate inputs give a clear result or error, never a panic.
+func TestTrackDegenerate(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		x    []float32
+		fs   float64
+	}{
+		{"silence", make([]float32, 48000), 48000},
+		{"300 samples", make([]float32, 300), 48000},
+		{"one second at 8 kHz", make([]float32, 8000), 8000},
+		{"full-scale square", func() []float32 {
+			x := make([]float32, 22050)
+			for i := range x {
+				x[i] = 1
+				if (i/50)%2 == 1 {
+					x[i] = -1
+				}
+			}
+			return x
+		}(), 22050},
+	} {
+		tr, spec, err := TrackSignal(context.Background(), dsp.Signal{Samples: c.x, SampleRate: c.fs}, TrackConfig{Blades: 2}, nil)
+		if err != nil {
+			t.Logf("%s: error %v", c.name, err)
+			continue
+		}
+		t.Logf("%s: %d frames, %d with a motor, display %dx%d, warnings %q", c.name, tr.Len(), tr.validCount(), spec.Frames, spec.Bins, tr.Warnings)
+		if len(tr.TimeS) != len(tr.ShaftHz) || len(tr.SigmaHz) != len(tr.ShaftHz) || len(tr.Confidence) != len(tr.ShaftHz) {
+			t.Errorf("%s: track slices of different lengths", c.name)
+		}
+	}
+	if _, _, err := TrackSignal(context.Background(), dsp.Signal{Samples: make([]float32, 1000), SampleRate: 0}, TrackConfig{}, nil); err == nil {
+		t.Error("zero sample rate accepted")
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, _, err := TrackSignal(ctx, dsp.Signal{Samples: make([]float32, 48000), SampleRate: 48000}, TrackConfig{Blades: 2}, nil); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled context: got %v, want context.Canceled", err)
 	}
 }
