@@ -66,8 +66,12 @@ const (
 	tauMaxS = 2.0
 )
 
-// profileSamples bounds the samples the profile search uses.
-const profileSamples = 160
+// profileSamples bounds the samples the profile search uses; maxStarts
+// the grid points polished.
+const (
+	profileSamples = 200
+	maxStarts      = 6
+)
 
 // errNoFit is returned when a step has too little data to fit.
 var errNoFit = errors.New("analysis: too few track samples to fit the step")
@@ -196,20 +200,23 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 	sorted := append([]profPoint(nil), best...)
 	sort.Slice(sorted, func(a, b int) bool { return sorted[a].rss < sorted[b].rss })
 
-	// Starting points: the best grid point and the best ones well apart
-	// from it in τ (a second basin), plus the two-point estimate.
+	// Starting points: the best grid points that are distinct from each
+	// other (in onset by more than two grid steps or in τ by a factor of
+	// 1.6), plus the two-point estimate; Levenberg–Marquardt from each, the
+	// lowest sum of squares wins. A track with a stretch of trouble can
+	// make the best grid point a false basin.
 	starts := []profPoint{sorted[0]}
 	for _, c := range sorted[1:] {
 		far := true
 		for _, s := range starts {
-			if math.Abs(math.Log(c.tau/s.tau)) < 0.7 {
+			if math.Abs(c.t0-s.t0) <= 2*dt0 && math.Abs(math.Log(c.tau/s.tau)) < 0.5 {
 				far = false
 				break
 			}
 		}
 		if far {
 			starts = append(starts, c)
-			if len(starts) == 3 {
+			if len(starts) == maxStarts {
 				break
 			}
 		}
