@@ -18,6 +18,10 @@ import (
 // view into it and quit (scripts/screenshots.sh uses it under Xvfb).
 const ScreenshotEnv = "WHIRLFIT_SCREENSHOTS"
 
+// markerLeadS is how far before each detected response start the
+// screenshot places a command marker (a plausible dead time for the picture).
+const markerLeadS = 0.01
+
 // settle is how long a screenshot waits for the window to repaint after a
 // change; the software renderer under Xvfb needs a moment.
 const settle = 1500 * time.Millisecond
@@ -95,6 +99,30 @@ func Screenshots(w *Window, dir string, capture func(path string) error, quit fu
 	})
 	time.Sleep(settle)
 	shot("rpm.png")
+
+	// Command markers just before each detected response start, as a user
+	// would place them, and the refit that follows.
+	placed := false
+	fyne.DoAndWait(func() {
+		w.modeRadio.SetSelected("Spectrogram")
+		if w.cur == nil || w.cur.Report == nil || len(w.cur.Report.Steps) == 0 {
+			return
+		}
+		var times []float64
+		for _, st := range w.cur.Report.Steps {
+			times = append(times, st.ResponseStartS-markerLeadS)
+		}
+		w.marks.Set(times)
+		w.view.SetMarkers(w.marks.Times(), -1)
+		w.analyse(true)
+		placed = true
+	})
+	if placed {
+		waitRun()
+		shot("markers.png")
+		fyne.DoAndWait(w.clearMarkers)
+		waitRun()
+	}
 
 	fyne.DoAndWait(func() {
 		w.modeRadio.SetSelected("Spectrogram")

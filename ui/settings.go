@@ -185,7 +185,7 @@ func newSettingsPanel(s Settings, onChange func(Settings)) *settingsPanel {
 	}
 	p.minHz, p.maxHz, p.maxAccel = entry("default"), entry("default"), entry("default")
 	p.minChange = entry("default")
-	p.bootstrap = widget.NewCheck("cross-check intervals (bootstrap)", func(bool) { p.changed() })
+	p.bootstrap = widget.NewCheck("cross-check", func(bool) { p.changed() })
 	apply := widget.NewButton("Apply", p.changed)
 	form := widget.NewForm(
 		widget.NewFormItem("Blades", p.blades),
@@ -196,7 +196,7 @@ func newSettingsPanel(s Settings, onChange func(Settings)) *settingsPanel {
 		widget.NewFormItem("Highest shaft Hz", p.maxHz),
 		widget.NewFormItem("Max change Hz/s", p.maxAccel),
 		widget.NewFormItem("Smallest step %", p.minChange),
-		widget.NewFormItem("", p.bootstrap),
+		widget.NewFormItem("Bootstrap", p.bootstrap),
 	)
 	p.box = container.NewVBox(form, apply)
 	p.set(s, 0)

@@ -144,12 +144,10 @@ func (w *Window) build() {
 	prev := widget.NewButtonWithIcon("", theme.NavigateBackIcon(), func() { w.stepBy(-1) })
 	next := widget.NewButtonWithIcon("", theme.NavigateNextIcon(), func() { w.stepBy(1) })
 
-	levelsBox := container.NewGridWithColumns(2,
-		container.NewBorder(nil, nil, widget.NewLabel("floor dB"), nil, w.dbLo),
-		container.NewBorder(nil, nil, widget.NewLabel("top dB"), nil, w.dbHi))
-	toolbar := container.NewBorder(nil, nil,
-		container.NewHBox(w.modeRadio, widget.NewSeparator(), zoomIn, zoomOut, zoomFit, zoomSel, widget.NewSeparator(), prev, next),
-		nil, levelsBox)
+	toolbar := container.NewHBox(w.modeRadio, widget.NewSeparator(), zoomIn, zoomOut, zoomFit, zoomSel, widget.NewSeparator(), prev, next)
+	levelsBox := widget.NewForm(
+		widget.NewFormItem("Floor (dB)", w.dbLo),
+		widget.NewFormItem("Top (dB)", w.dbHi))
 
 	hint := widget.NewLabel("Click the time axis (or Shift-click the plot) to place a command marker; drag it to move; Delete or right-click removes it. With markers, exactly the marked steps are fitted. Drag on the plot to select, scroll to zoom.")
 	hint.Wrapping = fyne.TextWrapWord
@@ -166,6 +164,9 @@ func (w *Window) build() {
 	side := container.NewVBox(
 		widget.NewLabelWithStyle("Analysis settings", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		w.panel.box,
+		widget.NewSeparator(),
+		widget.NewLabelWithStyle("Colour scale", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		levelsBox,
 		widget.NewSeparator(),
 		hint,
 	)
