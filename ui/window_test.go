@@ -311,3 +311,35 @@ func TestCursorReadout(t *testing.T) {
 		}
 	}
 }
+
+// The keyboard shortcuts reach their actions through the window's canvas.
+func TestShortcuts(t *testing.T) {
+	w, _ := newTestWindow(t)
+	c, ok := w.win.Canvas().(interface{ TypedShortcut(fyne.Shortcut) })
+	if !ok {
+		t.Skip("test canvas does not take shortcuts")
+	}
+	w.view.SetData(fixtureReport(t), nil, false)
+	c.TypedShortcut(shortcut(fyne.Key2, 0))
+	if w.view.Mode() != modeRPM {
+		t.Error("Ctrl+2 did not switch to the rpm view")
+	}
+	c.TypedShortcut(shortcut(fyne.Key1, 0))
+	if w.view.Mode() != modeSpectrogram {
+		t.Error("Ctrl+1 did not switch back to the spectrogram")
+	}
+	before := w.view.Viewport()
+	c.TypedShortcut(shortcut(fyne.KeyEqual, 0))
+	if in := w.view.Viewport(); !(in.T1-in.T0 < before.T1-before.T0) {
+		t.Errorf("Ctrl+= did not zoom in: span %g → %g s", before.T1-before.T0, in.T1-in.T0)
+	}
+	c.TypedShortcut(shortcut(fyne.Key0, 0))
+	if back := w.view.Viewport(); back.T0 != before.T0 || back.T1 != before.T1 {
+		t.Errorf("Ctrl+0 did not show the whole recording: [%g, %g], want [%g, %g]", back.T0, back.T1, before.T0, before.T1)
+	}
+	w.cur = &recording{Report: fixtureReport(t)}
+	c.TypedShortcut(shortcut(fyne.KeyRight, 0))
+	if w.selStep != 0 {
+		t.Errorf("Ctrl+Right: selected step %d, want 0", w.selStep)
+	}
+}
