@@ -84,6 +84,8 @@ const (
 	// profileEvery thins the frames that enter it.
 	profileMinHz = 30
 	profileEvery = 4
+	// maxReadBlades is the largest blade count the comb reading considers.
+	maxReadBlades = 6
 	// refineHarmonics bounds the harmonics used in refinement, in multiples
 	// of the blade count.
 	refineHarmonics = 8
@@ -231,6 +233,7 @@ type tracker struct {
 	// q/profileDiv shaft orders (index q), and how many frames saw it.
 	prof  []float64
 	profN []int
+	peaks []profilePeak // cached lines of the profile (profilePeaks)
 }
 
 // run performs the search and refinement passes with the given blade count
@@ -494,6 +497,13 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		fLow = voiced[len(voiced)/20]
 	}
 	rc := tk.cfg.STFT
+	if blades == 0 {
+		// Reading the blade count: the fundamental found may be the
+		// blade-pass line, so resolve shaft lines up to maxReadBlades times
+		// lower (this pass's track is not kept).
+		fLow = max(fLow/maxReadBlades, tk.cfg.MinShaftHz/2)
+		rc = dsp.STFTConfig{}
+	}
 	if rc.FrameLen == 0 {
 		rc.FrameLen = min(pow2Nearest(max(refineCycles*fs/fLow, refineMinFrameS*fs)), tk.search.FrameLen)
 	}
@@ -653,6 +663,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	tk.done += nf
 	tk.prof = make([]float64, profileLen)
 	tk.profN = make([]int, profileLen)
+	tk.peaks = nil
 	for _, s := range scratch {
 		for q := range tk.prof {
 			tk.prof[q] += s.prof[q]

@@ -14,13 +14,17 @@ import (
 //
 //	score = L̄(blade-pass positions) − L̄(midpoints between orders)
 //	        − max(0, L̄(other shaft orders) − 0.6·L̄(blade-pass positions))
+//	        − Σ_lines off the orders (L − 1.5) / n(blade-pass positions)
 //
 // The first term asks that the blade-pass lines be there; the second that
 // nothing lie between the shaft orders (a shaft frequency too high leaves
 // lines between its orders); the third that shaft-order lines be weaker than
 // the blade-pass lines, as they are on a rotor (a shaft frequency too high
 // by the blade count turns blade-pass lines into "shaft orders" as strong
-// as the blade-pass lines). A lattice of 1/120 orders cover r ∈ {1/5, 1/4, 1/3,
+// as the blade-pass lines). A last term charges the lines of the profile
+// that the reading leaves between its orders (their excess over 1.5 nepers,
+// per blade-pass position): a reading at 1.5·f0 with 2 blades explains the
+// blade-pass lines of f0 with 3 blades but not its shaft line. A lattice of 1/120 orders cover r ∈ {1/5, 1/4, 1/3,
 // 1/2, 2/3, 1, 3/2, 2, 3, 4, 5}. Readings that the lines cannot tell apart
 // (f0 with 3 blades and 1.5·f0 with 2 when no shaft-order line shows) score
 // alike; the current reading then stands.
@@ -73,6 +77,16 @@ func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
 	if nbl < 2 {
 		return 0, false
 	}
+	// Lines of the profile that the reading leaves off its orders.
+	var unexplained float64
+	for _, p := range tk.profilePeaks() {
+		if p.q > top {
+			break
+		}
+		if r := p.q % step; min(r, step-r) > profileMatch {
+			unexplained += p.level - profileLineZ
+		}
+	}
 	bl /= float64(nbl)
 	if nnb > 0 {
 		nb /= float64(nnb)
@@ -80,7 +94,7 @@ func (tk *tracker) readingScore(num, den, blades int) (float64, bool) {
 	if nmid > 0 {
 		mid /= float64(nmid)
 	}
-	return bl - mid - math.Max(0, nb-0.6*bl), true
+	return bl - mid - math.Max(0, nb-0.6*bl) - unexplained/float64(nbl), true
 }
 
 // profileTop returns the last profile index the readings use: half an
@@ -96,6 +110,41 @@ func (tk *tracker) profileTop() int {
 	}
 	return min(profileLen-1, top+profileDiv/2)
 }
+
+type profilePeak struct {
+	q     int
+	level float64
+}
+
+// profilePeaks returns the lines of the comb profile: local maxima (over
+// ±profileMatch lattice steps) at least profileLineZ high, in order of q.
+func (tk *tracker) profilePeaks() []profilePeak {
+	if tk.peaks != nil {
+		return tk.peaks
+	}
+	tk.peaks = []profilePeak{}
+	for q := 1; q < profileLen; q++ {
+		v := tk.prof[q]
+		if tk.profN[q] == 0 || v < profileLineZ {
+			continue
+		}
+		peak := true
+		for j := max(1, q-profileMatch); j <= min(profileLen-1, q+profileMatch); j++ {
+			if tk.prof[j] > v || (tk.prof[j] == v && j < q) {
+				peak = false
+				break
+			}
+		}
+		if peak {
+			tk.peaks = append(tk.peaks, profilePeak{q, v})
+		}
+	}
+	return tk.peaks
+}
+
+// profileMatch is how far (lattice steps of 1/120 order) a profile line
+// may lie from a reading's order and still be on it.
+const profileMatch = 2
 
 // profileLineZ is the mean excess (nepers, 1.5 ≈ 6.5 dB) that marks a line
 // in the comb profile.
