@@ -233,6 +233,9 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 			e.CI95[0] = clampFinite(e.CI95[0], thLo+mult*tauLo, thHi+mult*tauHi)
 			e.CI95[1] = clampFinite(e.CI95[1], thLo+mult*tauLo, thHi+mult*tauHi)
 		}
+		if p.onsetHi-t0 < 1e-4 && p.onsetHi > p.onsetLo {
+			notes = append(notes, fmt.Sprintf("θ ended at the limit of its search (%.0f ms after the command); check the command time", 1e3*(p.onsetHi-c)))
+		}
 		if th < 1e-4 {
 			notes = append(notes, "the response starts at (or before) the command time: θ is held at 0; check the command time")
 		}

@@ -241,7 +241,7 @@ func TestBootstrapCrossCheck(t *testing.T) {
 		tr := spec.track(rng)
 		k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
 		hop := trackHop(tr)
-		plans := []stepPlan{{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + maxDeadTimeS}}
+		plans := []stepPlan{{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1}}
 		planWindows(plans, tr, &k)
 		p := plans[0]
 		d := stepDataFrom(tr, &k, hop, p.fromS, p.toS)

@@ -25,6 +25,11 @@ type StepConfig struct {
 	// MaxRiseS is the longest 10–90 % transition that detection still
 	// calls a step; slower changes are ramps (default 0.6 s).
 	MaxRiseS float64
+	// MaxDeadTimeS bounds the dead time searched after each command time
+	// (default 0.1 s; a motor and its speed controller answer within tens
+	// of milliseconds, and a wider search lets a stretch of tracker
+	// trouble after the step pass for its start).
+	MaxDeadTimeS float64
 }
 
 func (c StepConfig) withDefaults() StepConfig {
@@ -37,6 +42,9 @@ func (c StepConfig) withDefaults() StepConfig {
 	if c.MaxRiseS <= 0 {
 		c.MaxRiseS = 0.6
 	}
+	if c.MaxDeadTimeS <= 0 {
+		c.MaxDeadTimeS = 0.1
+	}
 	return c
 }
 
@@ -47,7 +55,6 @@ const (
 	maxPostWindowS  = 1.5
 	postWindowTaus  = 12
 	minPostWindowS  = 0.3
-	maxDeadTimeS    = 0.25
 	settledTaus     = 4
 	poorR2          = 0.9
 	poorRelativeRMS = 0.08
@@ -77,7 +84,7 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 				warns = append(warns, fmt.Sprintf("command time %.3f s is outside the track (%.3f–%.3f s); ignored", c, t0, t1))
 				continue
 			}
-			plans = append(plans, stepPlan{commandS: c, onsetLo: c, onsetHi: c + maxDeadTimeS})
+			plans = append(plans, stepPlan{commandS: c, onsetLo: c, onsetHi: c + cfg.MaxDeadTimeS})
 		}
 		planWindows(plans, tr, &k)
 		for i := range plans {
