@@ -339,16 +339,17 @@ func TestTrackRandomSweep(t *testing.T) {
 }
 
 // With Blades = 0 the tracker reads the blade count from the comb and says
-// so. The reading needs shaft-order lines; where they are weak it can
-// mistake (f0, B) for (f0·B/B', B') — the figures below show where it
-// holds. The assertion covers the case that must hold: a clear comb.
+// so. The reading needs shaft-order lines (the shaft line, its harmonics,
+// the motor's whine); where a high-pass or noise hides them it can mistake
+// (f0, B) for (f0·B/B', B'), which is why the warning asks for the count.
+// On random benchmark-like scenes it read 15 of 24 right (see the report).
 func TestTrackEstimateBlades(t *testing.T) {
 	for _, c := range []struct {
 		blades int
 		f0     float64
 		assert bool
 	}{
-		{4, 300, true}, {5, 300, true}, {2, 300, true}, {3, 120, false},
+		{4, 300, true}, {5, 300, true}, {2, 300, true}, {3, 120, true}, {5, 120, true}, {2, 120, true},
 	} {
 		sc := synth.Scene{SampleRate: 48000, DurationS: 1.5, Shaft: synth.Constant(c.f0), Rotor: synth.NewRotor(c.blades, 7), SNRdB: 15, Seed: uint64(c.blades)}
 		tr := renderAndTrack(t, sc, TrackConfig{})
