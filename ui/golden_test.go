@@ -3,6 +3,7 @@ package ui
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 
 	"fyne.io/fyne/v2"
@@ -120,4 +121,28 @@ func TestResultsTableGolden(t *testing.T) {
 
 func pointerAt(x, y float32) *desktop.MouseEvent {
 	return &desktop.MouseEvent{PointEvent: fyne.PointEvent{Position: fyne.NewPos(x, y)}}
+}
+
+// Markup golden of the comparison table for two fixed reports that differ
+// in τ, and the verdict that names the faster one.
+func TestCompareTableGolden(t *testing.T) {
+	w, _ := newTestWindow(t)
+	a, b := fixtureReport(t), fixtureReport(t)
+	b.File = "slower"
+	b.Steps[0].TauS = analysis.Estimate{Value: 0.08, CI95: [2]float64{0.077, 0.083}}
+	p := w.compare
+	p.recs = []*recording{{Label: "two-blade", Report: a}, {Label: "heavy", Report: b}}
+	p.refresh()
+	if p.cmp == nil {
+		t.Fatalf("no comparison: %q", p.verdict.Text)
+	}
+	if !strings.Contains(p.verdict.Text, "heavy") || !strings.Contains(p.verdict.Text, "two-blade") {
+		t.Errorf("verdict does not name both recordings: %q", p.verdict.Text)
+	}
+	t.Logf("verdict: %s", p.verdict.Text)
+	p.table.Resize(fyne.NewSize(700, 300))
+	test.AssertObjectRendersToMarkup(t, "compare/table.xml", p.table)
+	if txt := p.text(); !strings.Contains(txt, "heavy") || !strings.Contains(txt, "*") {
+		t.Errorf("copied comparison lacks the labels or the marks: %q", txt)
+	}
 }
