@@ -1,8 +1,11 @@
 package ui
 
 import (
+	"bytes"
 	"context"
+	"errors"
 	"fmt"
+	"io"
 	"strings"
 
 	"fyne.io/fyne/v2"
@@ -11,6 +14,7 @@ import (
 	"fyne.io/fyne/v2/dialog"
 	"fyne.io/fyne/v2/theme"
 	"fyne.io/fyne/v2/widget"
+	"gonum.org/v1/plot/vg"
 
 	"whirlfit/analysis"
 	"whirlfit/analysis/compare"
@@ -90,9 +94,10 @@ func newComparePanel(w *Window) *comparePanel {
 	p.status = widget.NewLabel("")
 	add := widget.NewButtonWithIcon("Add recordings…", theme.ContentAddIcon(), p.showAdd)
 	addCur := widget.NewButton("Add the current recording", p.addCurrent)
-	copyBtn := widget.NewButtonWithIcon("Copy table", theme.ContentCopyIcon(), func() {
+	copyBtn := widget.NewButtonWithIcon("Copy", theme.ContentCopyIcon(), func() {
 		w.app.Clipboard().SetContent(p.text())
 	})
+	exportBtn := widget.NewButtonWithIcon("Export…", theme.DocumentSaveIcon(), p.showExport)
 	left := container.NewBorder(
 		container.NewVBox(widget.NewLabelWithStyle("Recordings (label, result)", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 			container.NewHBox(add, addCur)),
@@ -100,7 +105,9 @@ func newComparePanel(w *Window) *comparePanel {
 	verdicts := container.NewVScroll(p.verdict)
 	verdicts.SetMinSize(fyne.NewSize(200, 90))
 	top := container.NewBorder(container.NewBorder(nil, nil, widget.NewLabel("Overlay of step"), nil, p.stepSel), nil, nil, nil, p.overlay)
-	bottom := container.NewBorder(container.NewBorder(nil, nil, nil, copyBtn, verdicts), nil, nil, nil, p.table)
+	legend := widget.NewLabel("* the 95 % intervals of this value and the first recording's do not overlap")
+	legend.Importance = widget.LowImportance
+	bottom := container.NewBorder(container.NewBorder(nil, nil, nil, container.NewVBox(copyBtn, exportBtn), verdicts), legend, nil, nil, p.table)
 	right := container.NewVSplit(top, bottom)
 	right.Offset = 0.55
 	split := container.NewHSplit(left, right)
@@ -248,16 +255,20 @@ func (p *comparePanel) refresh() {
 	})
 }
 
-// rebuild recomputes the comparison from the finished reports.
-func (p *comparePanel) rebuild() {
-	var reps []*analysis.Report
-	var labels []string
+// reports returns the finished reports and their labels.
+func (p *comparePanel) reports() (reps []*analysis.Report, labels []string) {
 	for _, r := range p.recs {
 		if r.Report != nil {
 			reps = append(reps, r.Report)
 			labels = append(labels, r.Label)
 		}
 	}
+	return reps, labels
+}
+
+// rebuild recomputes the comparison from the finished reports.
+func (p *comparePanel) rebuild() {
+	reps, labels := p.reports()
 	p.cmp, p.cells = nil, nil
 	if len(reps) < 2 {
 		p.verdict.SetText("Add two or more recordings to compare them.")
@@ -320,15 +331,85 @@ func compareCells(c *compare.Comparison) [][]string {
 	return cells
 }
 
-// text is the comparison as tab-separated text with the verdicts.
+// text is the comparison as the command line writes it (the core's text
+// table and verdicts).
 func (p *comparePanel) text() string {
+	if p.cmp == nil {
+		return ""
+	}
 	var b strings.Builder
-	for _, r := range p.cells {
-		b.WriteString(strings.Join(r, "\t") + "\n")
+	if err := p.cmp.WriteText(&b); err != nil {
+		return err.Error()
 	}
-	if p.cmp != nil {
-		b.WriteString("\n" + strings.Join(p.cmp.Verdicts, "\n") + "\n")
-	}
-	b.WriteString("* the 95 % intervals of this value and the first recording's do not overlap\n")
 	return b.String()
+}
+
+// compareKinds are the comparison's exports.
+var compareKinds = []struct {
+	name, ext string
+	write     func(w io.Writer, p *comparePanel) error
+}{
+	{"Comparison (text)", "-comparison.txt", func(w io.Writer, p *comparePanel) error { return p.cmp.WriteText(w) }},
+	{"Comparison (CSV)", "-comparison.csv", func(w io.Writer, p *comparePanel) error { return p.cmp.WriteCSV(w) }},
+	{"Comparison (JSON)", "-comparison.json", func(w io.Writer, p *comparePanel) error { return p.cmp.WriteJSON(w) }},
+	{"Overlay figure (PNG)", "-overlay.png", overlayWriter("png")},
+	{"Overlay figure (SVG)", "-overlay.svg", overlayWriter("svg")},
+	{"Overlay figure (PDF)", "-overlay.pdf", overlayWriter("pdf")},
+}
+
+func overlayWriter(format string) func(io.Writer, *comparePanel) error {
+	return func(w io.Writer, p *comparePanel) error {
+		reps, labels := p.reports()
+		pl, err := figure.ComparePlotStep(reps, labels, p.step, figure.Options{})
+		if err != nil {
+			return err
+		}
+		wt, err := pl.WriterTo(vg.Length(figure.DefaultWidthIn)*vg.Inch, vg.Length(figure.DefaultHeightIn)*vg.Inch, format)
+		if err != nil {
+			return err
+		}
+		_, err = wt.WriteTo(w)
+		return err
+	}
+}
+
+// renderCompare produces one comparison export in memory.
+func (p *comparePanel) renderCompare(i int) ([]byte, error) {
+	if p.cmp == nil {
+		return nil, errors.New("add two or more analysed recordings first")
+	}
+	var buf bytes.Buffer
+	if err := compareKinds[i].write(&buf, p); err != nil {
+		return nil, err
+	}
+	return buf.Bytes(), nil
+}
+
+func (p *comparePanel) showExport() {
+	if p.cmp == nil {
+		dialog.ShowInformation("Export", "Add two or more analysed recordings first.", p.w.win)
+		return
+	}
+	names := make([]string, len(compareKinds))
+	for i, k := range compareKinds {
+		names[i] = k.name
+	}
+	sel := widget.NewRadioGroup(names, nil)
+	sel.SetSelected(names[1])
+	dialog.ShowCustomConfirm("Export the comparison", "Choose a file…", "Cancel", sel, func(ok bool) {
+		if !ok {
+			return
+		}
+		for i, k := range compareKinds {
+			if k.name != sel.Selected {
+				continue
+			}
+			data, err := p.renderCompare(i)
+			if err != nil {
+				dialog.ShowError(err, p.w.win)
+				return
+			}
+			p.w.saveWithDialog("whirlfit"+k.ext, data)
+		}
+	}, p.w.win)
 }

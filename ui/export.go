@@ -110,9 +110,7 @@ func (w *Window) showExport() {
 	}, w.win)
 }
 
-// exportWithDialog renders kind, then asks for the file. Fyne's save dialog
-// asks before replacing a file; the content is then written atomically
-// (a temporary file renamed into place).
+// exportWithDialog renders kind, then asks for the file.
 func (w *Window) exportWithDialog(kind exportKind) {
 	rep := w.cur.Report
 	data, err := render(kind, rep)
@@ -120,6 +118,13 @@ func (w *Window) exportWithDialog(kind exportKind) {
 		dialog.ShowError(fmt.Errorf("cannot export %s: %w", strings.ToLower(kind.name), err), w.win)
 		return
 	}
+	w.saveWithDialog(labelFor(rep.File)+kind.ext, data)
+}
+
+// saveWithDialog asks where to save data, which is already rendered.
+// Fyne's save dialog asks before replacing a file; the content is then
+// written atomically (a temporary file renamed into place).
+func (w *Window) saveWithDialog(fileName string, data []byte) {
 	d := dialog.NewFileSave(func(wc fyne.URIWriteCloser, err error) {
 		if err != nil {
 			dialog.ShowError(err, w.win)
@@ -143,8 +148,8 @@ func (w *Window) exportWithDialog(kind exportKind) {
 		}
 		w.status.SetText("Wrote " + path)
 	}, w.win)
-	d.SetFileName(labelFor(rep.File) + kind.ext)
-	d.SetFilter(storage.NewExtensionFileFilter([]string{filepath.Ext(kind.ext)}))
+	d.SetFileName(fileName)
+	d.SetFilter(storage.NewExtensionFileFilter([]string{filepath.Ext(fileName)}))
 	if l := w.startFolder(); l != nil {
 		d.SetLocation(l)
 	}

@@ -142,7 +142,13 @@ func TestCompareTableGolden(t *testing.T) {
 	t.Logf("verdict: %s", p.verdict.Text)
 	p.table.Resize(fyne.NewSize(700, 300))
 	test.AssertObjectRendersToMarkup(t, "compare/table.xml", p.table)
-	if txt := p.text(); !strings.Contains(txt, "heavy") || !strings.Contains(txt, "*") {
-		t.Errorf("copied comparison lacks the labels or the marks: %q", txt)
+	if txt := p.text(); !strings.Contains(txt, "heavy") || !strings.Contains(txt, "two-blade") {
+		t.Errorf("copied comparison lacks the labels: %q", txt)
+	}
+	for i, k := range compareKinds {
+		data, err := p.renderCompare(i)
+		if err != nil || len(data) == 0 {
+			t.Errorf("%s: %d bytes, %v", k.name, len(data), err)
+		}
 	}
 }
