@@ -42,7 +42,9 @@ func FindPeaks(dst []Peak, row []float32, k, minBin, maxBin int) []Peak {
 	r := row[lo-1 : hi+2] // r[j] = row[lo−1+j]; candidates j = 1..len(r)−2
 	for j := 1; j+1 < len(r); j++ {
 		v := r[j]
-		if v <= thresh || v <= r[j-1] || v < r[j+1] {
+		// Written as negated "greater" tests: one branch each (a NaN fails
+		// them all and is skipped).
+		if !(v > thresh) || !(v > r[j-1]) || !(v >= r[j+1]) {
 			continue
 		}
 		i := lo - 1 + j
@@ -68,3 +70,4 @@ func FindPeaks(dst []Peak, row []float32, k, minBin, maxBin int) []Peak {
 	}
 	return dst
 }
+
