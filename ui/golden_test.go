@@ -114,7 +114,9 @@ func TestResultsTableGolden(t *testing.T) {
 	r.set(fixtureReport(t))
 	r.table.Resize(fyne.NewSize(900, 140))
 	test.AssertObjectRendersToMarkup(t, "results/table.xml", r.table)
-	if got, want := r.cell(1, 5), "50.0 [48.0, 52.0]"; got != want {
+	// compare.FormatPM: ± the larger distance to an interval end (2 ms),
+	// one significant digit.
+	if got, want := r.cell(1, 5), "50 ± 2"; got != want {
 		t.Errorf("τ cell: got %q, want %q", got, want)
 	}
 }

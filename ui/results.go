@@ -10,6 +10,7 @@ import (
 	"fyne.io/fyne/v2/widget"
 
 	"whirlfit/analysis"
+	"whirlfit/analysis/compare"
 )
 
 // resultColumns are the results table's columns; the cells hold the same
@@ -28,15 +29,15 @@ var resultColumns = []struct {
 		return fmt.Sprintf("%.3f", *s.CommandS)
 	}},
 	{"start (s)", 80, func(n int, s *analysis.StepResult) string { return fmt.Sprintf("%.3f", s.ResponseStartS) }},
-	{"dead time (ms)", 160, func(n int, s *analysis.StepResult) string { return msEst(s.DeadTimeS) }},
-	{"τ (ms)", 160, func(n int, s *analysis.StepResult) string { return msEst(&s.TauS) }},
-	{"t63 (ms)", 160, func(n int, s *analysis.StepResult) string { return msEst(s.T63S) }},
-	{"t95 (ms)", 160, func(n int, s *analysis.StepResult) string { return msEst(s.T95S) }},
-	{"rise 10–90 (ms)", 160, func(n int, s *analysis.StepResult) string { return msEst(&s.Rise1090S) }},
-	{"rpm before", 170, func(n int, s *analysis.StepResult) string { return rpmEst(&s.RPMBefore) }},
-	{"rpm after", 170, func(n int, s *analysis.StepResult) string { return rpmEst(&s.RPMAfter) }},
-	{"Δ rpm", 170, func(n int, s *analysis.StepResult) string { return rpmEst(&s.DeltaRPM) }},
-	{"bandwidth (Hz)", 150, func(n int, s *analysis.StepResult) string { return est(&s.BandwidthHz, 1, 3) }},
+	{"dead time (ms)", 130, func(n int, s *analysis.StepResult) string { return msEst(s.DeadTimeS) }},
+	{"τ (ms)", 120, func(n int, s *analysis.StepResult) string { return msEst(&s.TauS) }},
+	{"t63 (ms)", 120, func(n int, s *analysis.StepResult) string { return msEst(s.T63S) }},
+	{"t95 (ms)", 120, func(n int, s *analysis.StepResult) string { return msEst(s.T95S) }},
+	{"rise 10–90 (ms)", 130, func(n int, s *analysis.StepResult) string { return msEst(&s.Rise1090S) }},
+	{"rpm before", 130, func(n int, s *analysis.StepResult) string { return rpmEst(&s.RPMBefore) }},
+	{"rpm after", 130, func(n int, s *analysis.StepResult) string { return rpmEst(&s.RPMAfter) }},
+	{"Δ rpm", 130, func(n int, s *analysis.StepResult) string { return rpmEst(&s.DeltaRPM) }},
+	{"bandwidth (Hz)", 130, func(n int, s *analysis.StepResult) string { return est(&s.BandwidthHz, 1) }},
 	{"RMS residual (rpm)", 130, func(n int, s *analysis.StepResult) string { return num(s.ResidualRMSRPM, 1) }},
 	{"R²", 70, func(n int, s *analysis.StepResult) string { return num(s.R2, 4) }},
 	{"warnings", 420, func(n int, s *analysis.StepResult) string { return strings.Join(s.Warnings, "; ") }},
@@ -52,16 +53,18 @@ func num(v float64, prec int) string {
 	return strconv.FormatFloat(v, 'f', prec, 64)
 }
 
-// est formats a value with its 95 % interval, scaled by k.
-func est(e *analysis.Estimate, k float64, prec int) string {
+// est formats a value with its 95 % interval, scaled by k, as the command
+// line does: "value ± u" with u the larger distance to an interval end,
+// rounded to the uncertainty (compare.FormatPM).
+func est(e *analysis.Estimate, k float64) string {
 	if e == nil {
 		return "—"
 	}
-	return fmt.Sprintf("%s [%s, %s]", num(k*e.Value, prec), num(k*e.CI95[0], prec), num(k*e.CI95[1], prec))
+	return strings.TrimSpace(compare.FormatPM(*e, k, ""))
 }
 
-func msEst(e *analysis.Estimate) string  { return est(e, msPerS, 1) }
-func rpmEst(e *analysis.Estimate) string { return est(e, 1, 0) }
+func msEst(e *analysis.Estimate) string  { return est(e, msPerS) }
+func rpmEst(e *analysis.Estimate) string { return est(e, 1) }
 
 // resultsTable is the per-step table under the plot. Row 0 is the header.
 type resultsTable struct {
