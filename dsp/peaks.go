@@ -70,4 +70,3 @@ func FindPeaks(dst []Peak, row []float32, k, minBin, maxBin int) []Peak {
 	}
 	return dst
 }
-
