@@ -84,6 +84,9 @@ const (
 	// profileEvery thins the frames that enter it.
 	profileMinHz = 30
 	profileEvery = 4
+	// despikeHalf (frames each side) and despikeRel tune despikeTrack.
+	despikeHalf = 4
+	despikeRel  = 0.02
 	// maxReadBlades is the largest blade count the comb reading considers.
 	maxReadBlades = 6
 	// refineHarmonics bounds the harmonics used in refinement, in multiples
@@ -675,12 +678,56 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 			tk.prof[q] /= float64(tk.profN[q])
 		}
 	}
+	despikeTrack(tr, despikeHalf)
 	if nv := tr.validCount(); nv == 0 {
 		tr.Warnings = append(tr.Warnings, "no motor found: no harmonic comb stands out of the noise")
 	} else if nv < nf {
 		tr.Warnings = append(tr.Warnings, fmt.Sprintf("no motor in %d of %d frames (%.0f %%): left empty", nf-nv, nf, 100*float64(nf-nv)/float64(nf)))
 	}
 	return tr, nil
+}
+
+// despikeTrack empties track samples that disagree with their neighbourhood: a
+// sample further from the median of the valid samples within ±half frames
+// than max(5 robust standard deviations (1.4826·MAD), 2 %) of it, while
+// those neighbours agree among themselves. A frame captured for a moment
+// by a passing line is then left empty rather than reported; a real step,
+// whose neighbourhood spans the change, keeps its samples.
+func despikeTrack(tr *Track, half int) {
+	n := tr.Len()
+	win := make([]float64, 0, 2*half+1)
+	dev := make([]float64, 0, 2*half+1)
+	bad := make([]bool, n)
+	for i := 0; i < n; i++ {
+		if !tr.Valid(i) {
+			continue
+		}
+		win = win[:0]
+		for j := max(0, i-half); j <= min(n-1, i+half); j++ {
+			if j != i && tr.Valid(j) {
+				win = append(win, tr.ShaftHz[j])
+			}
+		}
+		if len(win) < half {
+			continue
+		}
+		slices.Sort(win)
+		m := win[len(win)/2]
+		dev = dev[:0]
+		for _, v := range win {
+			dev = append(dev, math.Abs(v-m))
+		}
+		slices.Sort(dev)
+		mad := 1.4826 * dev[len(dev)/2]
+		if math.Abs(tr.ShaftHz[i]-m) > math.Max(5*mad, despikeRel*m) {
+			bad[i] = true
+		}
+	}
+	for i, b := range bad {
+		if b {
+			tr.ShaftHz[i], tr.SigmaHz[i], tr.Confidence[i] = math.NaN(), math.NaN(), 0
+		}
+	}
 }
 
 // poolHarmonics combines per-harmonic shaft estimates est (f_h/h, with
