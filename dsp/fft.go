@@ -24,8 +24,9 @@ type Float interface{ ~float32 | ~float64 }
 // even/odd butterfly (E. O. Brigham, The Fast Fourier Transform, 1974,
 // §10.10 "real data" (M)). Twiddle factors are computed once, in float64,
 // for each pass. Stockham's ordering needs no bit reversal and reads and
-// writes memory sequentially (T. G. Stockham, 1966; C. Van Loan,
-// Computational Frameworks for the Fast Fourier Transform, SIAM 1992, §1.7).
+// writes memory sequentially (T. G. Stockham, 1966 (M); C. Van Loan,
+// Computational Frameworks for the Fast Fourier Transform, SIAM 1992 (M)).
+// (M): citation details from memory.
 //
 // On amd64 CPUs with AVX, float32 plans run hand-vectorised kernels
 // (fft_amd64.s, 8 lanes): the first pass fused with packing and windowing,

@@ -68,7 +68,9 @@ func maxInto(dst, src []float32) {
 //	err := cfg.Process(ctx, x, fs, r.Frame, progress)
 //	s := r.Spectrogram()
 //
-// Each worker pools its consecutive frames into a private row and merges
+// Process must run with the cfg given to NewReducer (its Workers count
+// sizes the per-worker rows). Each worker pools its consecutive frames into
+// a private row and merges
 // the row into the shared copy (under a per-row lock) when it moves to
 // another group, so the locks are taken about once per group, not per
 // frame.
