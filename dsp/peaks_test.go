@@ -2,6 +2,7 @@ package dsp
 
 import (
 	"fmt"
+	"math"
 	"slices"
 	"testing"
 )
@@ -87,5 +88,25 @@ func BenchmarkFindPeaks(b *testing.B) {
 				dst = FindPeaks(dst, row, 8, 1, bins-2)
 			}
 		})
+	}
+}
+
+// Non-finite values never become peaks or interpolated offsets (never
+// panic on data).
+func TestPeaksAndInterpNaN(t *testing.T) {
+	nan := float32(math.NaN())
+	row := []float32{0, 1, nan, 1, 0, 2, 0}
+	got := FindPeaks(nil, row, 4, 0, len(row))
+	if len(got) != 1 || got[0].Bin != 5 {
+		t.Errorf("FindPeaks with a NaN: got %v, want only bin 5", got)
+	}
+	for name, d := range map[string]float64{
+		"jacobsen": InterpJacobsenHann([]float32{1, nan, 1}, []float32{0, 0, 0}, 1),
+		"quadlog":  InterpQuadLog([]float32{1, nan, 1}, 1),
+		"power":    InterpPowerQuad([]float32{nan, 2, 1}, 1, PowerQuadHann),
+	} {
+		if d != 0 {
+			t.Errorf("%s with a NaN bin: got %g, want 0", name, d)
+		}
 	}
 }
