@@ -423,3 +423,17 @@ func TestTrackDegenerate(t *testing.T) {
 		t.Errorf("cancelled context: got %v, want context.Canceled", err)
 	}
 }
+
+// Sample rates from phone to studio: the same rotor reads the same speed.
+func TestTrackSampleRates(t *testing.T) {
+	for _, fs := range []int{8000, 22050, 96000, 192000} {
+		sc := synth.Scene{SampleRate: fs, DurationS: 1, Shaft: synth.Constant(260), Rotor: synth.NewRotor(3, 7), SNRdB: 15, Seed: 11}
+		tr := renderAndTrack(t, sc, TrackConfig{Blades: 3})
+		mean, n := meanShaft(tr, 0.15, 0.85)
+		rel := (mean - 260) / 260
+		t.Logf("%6d Hz: %.4f Hz (%+.4f %%) over %d frames, kernel %.1f ms", fs, mean, 100*rel, n, 1e3*tr.KernelDtS*float64(len(tr.Kernel)-1))
+		if math.Abs(rel) > 0.002 || n == 0 {
+			t.Errorf("%d Hz: got %.4f Hz, want 260 ± 0.2 %%", fs, mean)
+		}
+	}
+}
