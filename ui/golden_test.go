@@ -154,3 +154,43 @@ func TestCompareTableGolden(t *testing.T) {
 		}
 	}
 }
+
+// Marker gestures on the view alone: a plain tap on the plot adds nothing,
+// Shift-tap adds, a secondary tap near a marker offers its removal.
+func TestViewMarkerGestures(t *testing.T) {
+	test.NewTempApp(t)
+	w := test.NewTempWindow(t, nil)
+	v := NewSpectrogramView()
+	w.SetContent(v)
+	w.Resize(fyne.NewSize(640, 360))
+	v.SetData(fixtureReport(t), nil, false)
+	var added []float64
+	v.OnAddMarker = func(tS float64) { added = append(added, tS) }
+	pos, size := v.plotRect()
+	mid := fyne.NewPos(pos.X+size.Width/2, pos.Y+size.Height/2)
+	test.TapAt(v, mid)
+	if len(added) != 0 {
+		t.Fatalf("plain tap on the plot added a marker at %v", added)
+	}
+	v.MouseDown(&desktop.MouseEvent{PointEvent: fyne.PointEvent{Position: mid}, Button: desktop.MouseButtonPrimary, Modifier: fyne.KeyModifierShift})
+	test.TapAt(v, mid)
+	vp := v.Viewport()
+	if len(added) != 1 || math.Abs(added[0]-(vp.T0+vp.T1)/2) > 1e-6 {
+		t.Fatalf("Shift-tap in the middle: got %v, want one marker at %.4f s", added, (vp.T0+vp.T1)/2)
+	}
+	v.SetMarkers(added, -1)
+	removed := -1
+	v.OnRemoveMarker = func(i int) { removed = i }
+	test.TapSecondaryAt(v, mid)
+	if w.Canvas().Overlays().Top() == nil {
+		t.Fatal("no context menu after a secondary tap")
+	}
+	items := v.contextItems(mid)
+	if len(items) == 0 || items[0].Label != "Remove marker" {
+		t.Fatalf("context menu at the marker: first entry %q, want Remove marker", items[0].Label)
+	}
+	items[0].Action()
+	if removed != 0 {
+		t.Errorf("Remove marker removed %d, want 0", removed)
+	}
+}

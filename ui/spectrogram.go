@@ -442,7 +442,7 @@ func (v *SpectrogramView) MouseDown(e *desktop.MouseEvent) { v.mod = e.Modifier 
 func (v *SpectrogramView) MouseUp(*desktop.MouseEvent) {}
 
 // Tapped places a marker when the tap is on the time axis, or on the plot
-// with Shift or Ctrl held; a tap near a marker selects it.
+// with Shift, Ctrl or Cmd held; a tap near a marker selects it.
 func (v *SpectrogramView) Tapped(e *fyne.PointEvent) {
 	if c := fyne.CurrentApp().Driver().CanvasForObject(v); c != nil {
 		c.Focus(v)
@@ -463,7 +463,7 @@ func (v *SpectrogramView) Tapped(e *fyne.PointEvent) {
 		if v.OnSelectMarker != nil {
 			v.OnSelectMarker(i)
 		}
-	case inTime && (r == regionTimeAxis || mod&(fyne.KeyModifierShift|fyne.KeyModifierControl) != 0):
+	case inTime && (r == regionTimeAxis || mod&(fyne.KeyModifierShift|fyne.KeyModifierControl|fyne.KeyModifierSuper) != 0):
 		if v.OnAddMarker != nil {
 			v.OnAddMarker(t)
 		}
@@ -475,16 +475,22 @@ func (v *SpectrogramView) Tapped(e *fyne.PointEvent) {
 	v.Refresh()
 }
 
-// TappedSecondary opens the context menu: remove the marker under the
-// pointer, add one, zoom to the selection, reset the view.
+// TappedSecondary opens the context menu of contextItems.
 func (v *SpectrogramView) TappedSecondary(e *fyne.PointEvent) {
 	c := fyne.CurrentApp().Driver().CanvasForObject(v)
 	if c == nil {
 		return
 	}
+	widget.ShowPopUpMenuAtPosition(fyne.NewMenu("", v.contextItems(e.Position)...), c, e.AbsolutePosition)
+}
+
+// contextItems are the context menu's entries at p: remove the marker
+// under the pointer (or add one there), zoom to the selection, reset the
+// view.
+func (v *SpectrogramView) contextItems(p fyne.Position) []*fyne.MenuItem {
 	v.mu.Lock()
-	i := v.markerAt(e.Position.X)
-	t, _ := v.dataAt(e.Position)
+	i := v.markerAt(p.X)
+	t, _ := v.dataAt(p)
 	hasSel := v.sel != nil
 	v.mu.Unlock()
 	var items []*fyne.MenuItem
@@ -494,7 +500,7 @@ func (v *SpectrogramView) TappedSecondary(e *fyne.PointEvent) {
 				v.OnRemoveMarker(i)
 			}
 		}))
-	} else if v.regionOf(e.Position) != regionNone {
+	} else if v.regionOf(p) != regionNone {
 		items = append(items, fyne.NewMenuItem("Add command marker here", func() {
 			if v.OnAddMarker != nil {
 				v.OnAddMarker(t)
@@ -504,8 +510,7 @@ func (v *SpectrogramView) TappedSecondary(e *fyne.PointEvent) {
 	if hasSel {
 		items = append(items, fyne.NewMenuItem("Zoom to selection", func() { v.ZoomToSelection() }))
 	}
-	items = append(items, fyne.NewMenuItem("Reset view", v.ResetView))
-	widget.ShowPopUpMenuAtPosition(fyne.NewMenu("", items...), c, e.AbsolutePosition)
+	return append(items, fyne.NewMenuItem("Reset view", v.ResetView))
 }
 
 // Dragged moves a marker (when the drag starts on one), pans (on the time
