@@ -131,3 +131,29 @@ func BenchmarkRecording30Min(b *testing.B) {
 		b.Logf("30 min: %d step(s), %.1f s to results, peak RSS %d MB", len(w.cur.Report.Steps), el.Seconds(), peakRSS()>>20)
 	}
 }
+
+// BenchmarkZoomRender measures one zoom step of the plot of a 60 s
+// recording: the view change and the re-render of a 1000×400 pixel image
+// (what a wheel notch costs on the UI goroutine).
+func BenchmarkZoomRender(b *testing.B) {
+	path := writeBenchWAV(b, b.TempDir(), 60, 60)
+	w, ch := newTestWindow(b)
+	onUI(func() { w.Open([]string{path}) })
+	await(b, ch, 1)
+	if w.cur.Err != nil {
+		b.Fatal(w.cur.Err)
+	}
+	s := w.cur.Report.Spectrogram
+	b.Logf("display spectrogram: %d frames × %d bins", s.Frames, s.Bins)
+	v := w.view
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		f := 1 / zoomStep
+		if i%8 >= 4 {
+			f = zoomStep
+		}
+		v.Zoom(f, true)
+		v.draw(1000, 400)
+	}
+}
