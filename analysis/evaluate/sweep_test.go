@@ -37,12 +37,6 @@ type stepScore struct {
 	tau, trueTau, snr float64
 }
 
-type caseScore struct {
-	name   string
-	steps  []stepScore
-	false_ int
-	err    error
-}
 
 func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audio, error) {
 	sr := c.Scene.SampleRate
