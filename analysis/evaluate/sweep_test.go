@@ -37,7 +37,6 @@ type stepScore struct {
 	tau, trueTau, snr float64
 }
 
-
 func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audio, error) {
 	sr := c.Scene.SampleRate
 	if c.Format != synth.WAV16 && c.Format != synth.WAV24 && c.Format != synth.WAVFloat {
