@@ -737,6 +737,7 @@ type spectrogramRenderer struct {
 	strip   *canvas.Rectangle
 	selRect *canvas.Rectangle
 	objects []fyne.CanvasObject
+	shown   drawKey // what the plot image last showed (size aside)
 }
 
 func (r *spectrogramRenderer) Destroy() {}
@@ -749,9 +750,19 @@ func (r *spectrogramRenderer) Objects() []fyne.CanvasObject { return r.objects }
 
 func (r *spectrogramRenderer) Layout(fyne.Size) { r.rebuild() }
 
+// Refresh rebuilds the axes and markers; the plot image is refreshed (and
+// its texture uploaded again) only when what it shows changed, so that
+// moving a marker or a selection costs no image work.
 func (r *spectrogramRenderer) Refresh() {
 	r.rebuild()
-	canvas.Refresh(r.plot)
+	v := r.v
+	v.mu.Lock()
+	key := drawKey{vp: v.vp, gen: v.gen, mode: v.mode}
+	v.mu.Unlock()
+	if key != r.shown {
+		r.shown = key
+		canvas.Refresh(r.plot)
+	}
 }
 
 // rebuild lays out the plot and rebuilds the axes, ticks, labels and
