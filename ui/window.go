@@ -264,7 +264,13 @@ func (w *Window) analyse(keepView bool) {
 		}
 		return runResult{audio: a, report: rep}, err
 	}, func(f float64) { w.progress.Set(f) }, func(v any) {
-		if p, ok := v.(preview); ok && rec == w.cur && rec.Report == nil {
+		p, ok := v.(preview)
+		if !ok {
+			return
+		}
+		// Keep the decoded audio even if this run is superseded.
+		rec.Audio = p.audio
+		if rec == w.cur && rec.Report == nil {
 			w.view.SetData(&analysis.Report{Spectrogram: p.spec, DurationS: p.audio.DurationS()}, nil, false)
 			lo, hi := w.view.Levels()
 			w.dbLo.SetValue(lo)
