@@ -194,3 +194,33 @@ func TestViewMarkerGestures(t *testing.T) {
 		t.Errorf("Remove marker removed %d, want 0", removed)
 	}
 }
+
+// Overlays with non-finite or enormous values (a failed fit, a band at a
+// badly located onset) are skipped or clipped, never looped over.
+func TestOverlaysSurviveBadNumbers(t *testing.T) {
+	test.NewTempApp(t)
+	rep := fixtureReport(t)
+	rep.Track.ShaftHz[3] = math.NaN()
+	rep.Steps[0].ResponseStartS = math.Inf(1)
+	nan, inf := math.NaN(), math.Inf(1)
+	curves := []stepCurve{{
+		TimeS: []float64{0.5, 1, 1.5, nan, 1e300},
+		RPM:   []float64{3600, nan, 6600, 6600, inf},
+		Lo:    []float64{-1e12, 3000, nan, 0, -inf},
+		Hi:    []float64{1e12, 7000, 7000, nan, inf},
+	}}
+	v := NewSpectrogramView()
+	v.Resize(fyne.NewSize(400, 300))
+	v.SetData(rep, curves, false)
+	r := test.WidgetRenderer(v)
+	for _, m := range []plotMode{modeSpectrogram, modeRPM} {
+		v.SetMode(m)
+		r.Refresh()
+		if vp := v.Viewport(); !finite(vp.R0) || !finite(vp.R1) {
+			t.Errorf("rpm axis [%g, %g] not finite", vp.R0, vp.R1)
+		}
+		if img := v.draw(200, 100); img.Bounds().Dx() != 200 {
+			t.Fatalf("mode %d: image %v", m, img.Bounds())
+		}
+	}
+}

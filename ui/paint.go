@@ -116,6 +116,12 @@ func (c canvasPainter) band(cv stepCurve, blades, k int) {
 			lo := cv.Lo[i-1] + f*(cv.Lo[i]-cv.Lo[i-1])
 			hi := cv.Hi[i-1] + f*(cv.Hi[i]-cv.Hi[i-1])
 			ya, yb := c.py(c.lines(hi, blades)[k]), c.py(c.lines(lo, blades)[k])
+			if !finite(ya) || !finite(yb) {
+				continue
+			}
+			// Clip to the image so that a very wide band costs no more
+			// than the image's height.
+			ya, yb = math.Max(ya, -1), math.Min(yb, h+1)
 			for y := int(math.Floor(ya)) - 1; y <= int(math.Ceil(yb))+1; y++ {
 				if y >= 0 && float64(y) < h {
 					blend(c.img, x, y, colBand)
@@ -126,6 +132,10 @@ func (c canvasPainter) band(cv stepCurve, blades, k int) {
 }
 
 func (c canvasPainter) dot(x, y float64, r int, col color.RGBA) {
+	w, h := c.size()
+	if !finite(x) || !finite(y) || x < -float64(r) || y < -float64(r) || x > w+float64(r) || y > h+float64(r) {
+		return
+	}
 	xi, yi := int(x), int(y)
 	for dy := -r + 1; dy < r; dy++ {
 		for dx := -r + 1; dx < r; dx++ {
@@ -140,6 +150,9 @@ func (c canvasPainter) dot(x, y float64, r int, col color.RGBA) {
 // line draws a straight segment of the given width (Bresenham, widened).
 func (c canvasPainter) line(x0, y0, x1, y1 float64, width int, col color.RGBA) {
 	w, h := c.size()
+	if !finite(x0) || !finite(y0) || !finite(x1) || !finite(y1) {
+		return
+	}
 	if (x0 < 0 && x1 < 0) || (x0 > w && x1 > w) {
 		return
 	}
@@ -241,3 +254,5 @@ func formatDB(db float64) string { return fmt.Sprintf("%.0f", db) }
 func themeForeground() color.Color { return theme.Color(theme.ColorNameForeground) }
 
 func themeBackground() color.Color { return theme.Color(theme.ColorNameBackground) }
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

@@ -178,8 +178,7 @@ func rpmRange(tr *analysis.Track, curves []stepCurve) (lo, hi float64) {
 	lo, hi = math.Inf(1), math.Inf(-1)
 	if tr != nil {
 		for i := range tr.TimeS {
-			if tr.Valid(i) {
-				r := tr.RPMAt(i)
+			if r := tr.RPMAt(i); finite(r) {
 				lo, hi = math.Min(lo, r), math.Max(hi, r)
 			}
 		}
@@ -188,7 +187,9 @@ func rpmRange(tr *analysis.Track, curves []stepCurve) (lo, hi float64) {
 	// reach far beyond it at a poorly located onset and do not set it.
 	for _, c := range curves {
 		for _, r := range c.RPM {
-			lo, hi = math.Min(lo, r), math.Max(hi, r)
+			if finite(r) {
+				lo, hi = math.Min(lo, r), math.Max(hi, r)
+			}
 		}
 	}
 	if math.IsInf(lo, 0) {
@@ -878,6 +879,9 @@ func (r *spectrogramRenderer) rebuild() {
 // ticks returns gonum/plot's default ticks for [lo, hi] with the major
 // labels written with as few decimals as their values need.
 func ticks(lo, hi float64) []plot.Tick {
+	if !finite(lo) || !finite(hi) || !(hi > lo) {
+		return nil
+	}
 	tks := (plot.DefaultTicks{}).Ticks(lo, hi)
 	var majors []float64
 	for _, tk := range tks {
