@@ -110,10 +110,11 @@ func (r *resultsTable) cell(row, col int) string {
 		return ""
 	}
 	if len(r.rep.Steps) == 0 {
-		if col == 0 {
-			return "no step found"
+		// The message goes in the wide warnings column.
+		if col == len(resultColumns)-1 {
+			return strings.Join(append([]string{"no step found"}, r.rep.Warnings...), "; ")
 		}
-		return ""
+		return "—"
 	}
 	return resultColumns[col].cell(row, &r.rep.Steps[row-1])
 }
