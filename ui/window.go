@@ -240,6 +240,12 @@ func (w *Window) analyse(keepView bool) {
 	}
 	cfg := w.settings.Config(w.marks.Times())
 	path := rec.Path
+	if path == "" && cfg.Blades == 0 {
+		// The demo's propeller is known: with the blade count left on auto
+		// it is analysed as what it is, as a user who knows the propeller
+		// would.
+		cfg.Blades, cfg.Track.Blades = assets.Demo.Blades, assets.Demo.Blades
+	}
 	audio := rec.Audio
 	w.status.SetText("Analysing " + rec.name() + " …")
 	w.progress.Set(0)
