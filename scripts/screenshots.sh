@@ -9,9 +9,11 @@
 # first-run.png. The app drives itself through the views when
 # WHIRLFIT_SCREENSHOTS names a folder, then quits. Preferences go to a
 # throw-away folder so that your own settings are not touched.
-# Needs: xvfb (xvfb-run), a C compiler and the X11/GL headers for Fyne.
+# Installs what it needs when missing (xvfb, ffmpeg, the cgo and X11/GL
+# headers for Fyne) through scripts/setup.sh.
 set -eu
 cd "$(dirname "$0")/.."
+bash scripts/setup.sh --screenshots
 out="$PWD/docs/screenshots"
 mkdir -p "$out"
 tmp=$(mktemp -d)

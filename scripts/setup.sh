@@ -3,13 +3,15 @@
 # a C compiler and the OpenGL/X11 headers that Fyne's cgo driver links
 # against. Only packages that are missing are installed. With --test it also
 # installs the tools the test suite and benchmarks use (sox for the outside
-# encoder check, Xvfb for screenshots).
+# encoder check); with --screenshots what scripts/screenshots.sh needs (Xvfb
+# and ffmpeg's X11 capture).
 set -euo pipefail
 want=(gcc pkg-config libgl1-mesa-dev libx11-dev libxcursor-dev libxrandr-dev
       libxinerama-dev libxi-dev libxxf86vm-dev libxkbcommon-dev)
-if [[ "${1:-}" == "--test" ]]; then
-  want+=(sox)
-fi
+case "${1:-}" in
+  --test) want+=(sox) ;;
+  --screenshots) want+=(xvfb xauth ffmpeg) ;;
+esac
 missing=()
 for p in "${want[@]}"; do
   dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
