@@ -19,6 +19,10 @@ type Config struct {
 	TriggerChannel int
 	// CommandTimesS are throttle command times given by the user, seconds.
 	CommandTimesS []float64
+	// FromS and ToS limit the steps looked for and fitted to an interval of
+	// the recording (seconds; ToS 0 means to the end). The whole recording
+	// is still tracked, so the display and the rpm CSV stay complete.
+	FromS, ToS float64
 	// Track and Steps tune the two stages; zero values mean defaults.
 	Track TrackConfig
 	Steps StepConfig
@@ -92,7 +96,24 @@ func Run(ctx context.Context, a *dsp.Audio, cfg Config, progress Progress) (*Rep
 	if err := ctx.Err(); err != nil {
 		return nil, fmt.Errorf("analysis: cancelled: %w", err)
 	}
-	res, warn := AnalyseSteps(tr, steps)
+	fitOn := tr
+	if cfg.FromS > 0 || cfg.ToS > 0 {
+		if cfg.ToS > 0 && cfg.ToS <= cfg.FromS {
+			return nil, fmt.Errorf("analysis: interval %g–%g s is empty", cfg.FromS, cfg.ToS)
+		}
+		fitOn = tr.Between(cfg.FromS, cfg.ToS)
+		var inside []float64
+		for _, c := range steps.CommandTimesS {
+			if c >= cfg.FromS && (cfg.ToS <= 0 || c <= cfg.ToS) {
+				inside = append(inside, c)
+			}
+		}
+		if len(inside) < len(steps.CommandTimesS) {
+			rep.Warnings = append(rep.Warnings, fmt.Sprintf("%d command time(s) outside the interval %g–%g s left out", len(steps.CommandTimesS)-len(inside), cfg.FromS, cfg.ToS))
+		}
+		steps.CommandTimesS = inside
+	}
+	res, warn := AnalyseSteps(fitOn, steps)
 	rep.Steps = res
 	rep.Warnings = append(rep.Warnings, warn...)
 	if rep.Steps == nil {

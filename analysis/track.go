@@ -50,3 +50,24 @@ func (t *Track) BladePassHzAt(i int) float64 { return BladePassHz(t.ShaftHz[i], 
 
 // Valid reports whether sample i holds a measurement.
 func (t *Track) Valid(i int) bool { return !math.IsNaN(t.ShaftHz[i]) }
+
+// Between returns the part of the track from fromS to toS (seconds; toS ≤ 0
+// means to the end). The samples are shared with t, and the warnings and
+// kernel carried over.
+func (t *Track) Between(fromS, toS float64) *Track {
+	lo, hi := 0, len(t.TimeS)
+	for lo < hi && t.TimeS[lo] < fromS {
+		lo++
+	}
+	if toS > 0 {
+		for hi > lo && t.TimeS[hi-1] > toS {
+			hi--
+		}
+	}
+	out := *t
+	out.TimeS = t.TimeS[lo:hi]
+	out.ShaftHz = t.ShaftHz[lo:hi]
+	out.SigmaHz = t.SigmaHz[lo:hi]
+	out.Confidence = t.Confidence[lo:hi]
+	return &out
+}

@@ -28,6 +28,8 @@ type analysisFlags struct {
 	trigger int
 	workers int
 	quiet   bool
+	fromS   float64
+	toS     float64
 }
 
 func (a *analysisFlags) register(fs *flag.FlagSet) {
@@ -37,6 +39,8 @@ func (a *analysisFlags) register(fs *flag.FlagSet) {
 	fs.IntVar(&a.trigger, "trigger-channel", 0, "1-based `channel` carrying the throttle command (trigger or PWM line); 0 = none")
 	fs.IntVar(&a.workers, "jobs", 0, "files analysed at once (`count`); 0 = one per CPU core")
 	fs.BoolVar(&a.quiet, "quiet", false, "no progress line on stderr")
+	fs.Float64Var(&a.fromS, "from", 0, "look for and fit steps from this time on, `seconds` (the whole recording is still tracked)")
+	fs.Float64Var(&a.toS, "to", 0, "look for and fit steps up to this time, `seconds` (0 = the end)")
 }
 
 // config checks the flags and returns the analysis configuration.
@@ -67,6 +71,10 @@ func (a *analysisFlags) config() (analysis.Config, error) {
 		}
 	}
 	cfg.CommandTimesS = ts
+	if a.fromS < 0 || a.toS < 0 || (a.toS > 0 && a.toS <= a.fromS) {
+		return cfg, fmt.Errorf("-from %g and -to %g do not give an interval (seconds, -to 0 = the end)", a.fromS, a.toS)
+	}
+	cfg.FromS, cfg.ToS = a.fromS, a.toS
 	return cfg, nil
 }
 
