@@ -16,6 +16,12 @@ func ShaftHz(rpm float64) float64 { return rpm / SecondsPerMinute }
 // number of blades turning at shaftHz.
 func BladePassHz(shaftHz float64, blades int) float64 { return shaftHz * float64(blades) }
 
+// ShaftHzFromBladePass returns the shaft frequency of a rotor with the given
+// number of blades whose blade-pass line is at bladePassHz.
+func ShaftHzFromBladePass(bladePassHz float64, blades int) float64 {
+	return bladePassHz / float64(blades)
+}
+
 // Track is rotor speed over time: one sample per STFT frame.
 type Track struct {
 	// Blades is the blade count the track was made with.

@@ -517,7 +517,7 @@ func (w *Window) showCursor(t, y float64, mode plotMode, inside bool) {
 
 // shaftFromBladePass inverts analysis.BladePassHz for one blade count.
 func shaftFromBladePass(hz float64, blades int) float64 {
-	return hz / analysis.BladePassHz(1, blades)
+	return analysis.ShaftHzFromBladePass(hz, blades)
 }
 
 // showWarnings lists everything the analysis warned about.
