@@ -33,20 +33,17 @@ func runAnalyse(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	summaryCSV := fs.String("summary-csv", "", "write one row per step per file as CSV to `PATH`")
 	plotPath := fs.String("plot", "", "save the spectrogram figure to `PATH` (.png, .svg or .pdf)")
 	force := fs.Bool("force", false, "overwrite existing output files")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit analyse [OPTIONS] FILE|FOLDER...")
-		fmt.Fprintln(stderr, "\nTracks the rotor speed of each recording, finds every throttle step (or takes")
-		fmt.Fprintln(stderr, "them from -step-at or a trigger channel) and fits rpm(t) = r0 + Δ·(1 − e^(−(t − tc − θ)/τ)).")
-		fmt.Fprintln(stderr, "Per step: direction, command time (s), response start (s), dead time θ (ms),")
-		fmt.Fprintln(stderr, "time constant τ (ms), 10–90 % rise (ms), rpm before and after, bandwidth")
-		fmt.Fprintln(stderr, "1/(2πτ) (Hz) and R², each with its 95 % interval. Folders are searched for")
-		fmt.Fprintln(stderr, "recordings; files are analysed in parallel. With several files, -rpm-csv and")
-		fmt.Fprintln(stderr, "-plot write one file each, named PATH-<input name>.<ext>.")
-		fmt.Fprintln(stderr, "\nExit status: 0 (also when no step is found: a warning says so), 1 when some")
-		fmt.Fprintln(stderr, "file could not be analysed (the others are still done), 2 on a usage error.")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit analyse [OPTIONS] FILE|FOLDER...", `
+Tracks the rotor speed of each recording, finds every throttle step (or takes
+them from -step-at or a trigger channel) and fits rpm(t) = r0 + Δ·(1 − e^(−(t − tc − θ)/τ)).
+Per step: direction, command time (s), response start (s), dead time θ (ms),
+time constant τ (ms), 10–90 % rise (ms), rpm before and after, bandwidth
+1/(2πτ) (Hz) and R², each with its 95 % interval. Folders are searched for
+recordings; files are analysed in parallel. With several files, -rpm-csv and
+-plot write one file each, named PATH-<input name>.<ext>.
+
+Exit status: 0 (also when no step is found: a warning says so), 1 when some
+file could not be analysed (the others are still done), 2 on a usage error.`)
 	args0, status, ok := parseInterleaved(fs, args)
 	if !ok {
 		return status

@@ -32,16 +32,12 @@ func runCompare(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	plotStep := fs.String("plot-step", "up1", "matched `step` the figure overlays: up1, up2, …, down1, …")
 	fromCommand := fs.Bool("from-command", false, "in the figure, measure time from the command (when known) instead of the response start")
 	force := fs.Bool("force", false, "overwrite an existing figure file")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit compare [OPTIONS] FILE FILE...")
-		fmt.Fprintln(stderr, "\nAnalyses each recording and matches their steps by direction and order (the")
-		fmt.Fprintln(stderr, "k-th up step of each file, the k-th down step, …). For each matched step it")
-		fmt.Fprintln(stderr, "shows τ and θ (ms), 10–90 % rise (ms), bandwidth (Hz) and rpm before and after,")
-		fmt.Fprintln(stderr, "each ± its 95 % interval, every file's difference from the first, whether the")
-		fmt.Fprintln(stderr, "intervals overlap, and a verdict in words (\"no clear difference\" when they do).")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit compare [OPTIONS] FILE FILE...", `
+Analyses each recording and matches their steps by direction and order (the
+k-th up step of each file, the k-th down step, …). For each matched step it
+shows τ and θ (ms), 10–90 % rise (ms), bandwidth (Hz) and rpm before and after,
+each ± its 95 % interval, every file's difference from the first, whether the
+intervals overlap, and a verdict in words ("no clear difference" when they do).`)
 	files, status, ok := parseInterleaved(fs, args)
 	if !ok {
 		return status

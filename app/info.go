@@ -40,14 +40,10 @@ func runInfo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("info", flag.ContinueOnError)
 	fs.SetOutput(stderr)
 	format := fs.String("format", "text", "output `style`: text (an aligned table) or json (one object per line)")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit info [-format text|json] FILE...")
-		fmt.Fprintln(stderr, "\nFor each recording: container and codec, sample rate (Hz), channels, bits per")
-		fmt.Fprintln(stderr, "sample or sample format, duration (s), peak and RMS level (dBFS, over all")
-		fmt.Fprintln(stderr, "channels; silence reads -200 in JSON) and the number of clipped samples.")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit info [-format text|json] FILE...", `
+For each recording: container and codec, sample rate (Hz), channels, bits per
+sample or sample format, duration (s), peak and RMS level (dBFS, over all
+channels; silence reads -200 in JSON) and the number of clipped samples.`)
 	// Options may come before, between or after the files.
 	var files []string
 	for {

@@ -19,11 +19,13 @@ package main
 
 import (
 	"context"
+	"flag"
 	"fmt"
 	"io"
 	"os"
 	"os/signal"
 	"sort"
+	"strings"
 )
 
 // command is one subcommand. run parses its own flags from args and writes
@@ -89,4 +91,16 @@ func usage(w io.Writer) {
 		fmt.Fprintf(w, "  %-10s %s\n", n, commands[n].summary)
 	}
 	fmt.Fprintln(w, "\n'whirlfit help COMMAND' or 'whirlfit COMMAND -help' lists a command's options with units and defaults.")
+}
+
+// usageFunc returns a flag set's Usage: the synopsis, the description (as
+// written, paragraphs separated by blank lines) and every option with its
+// unit and default.
+func usageFunc(fs *flag.FlagSet, w io.Writer, synopsis, description string) func() {
+	return func() {
+		fmt.Fprintln(w, "usage:", synopsis)
+		fmt.Fprintf(w, "\n%s\n", strings.TrimSpace(description))
+		fmt.Fprintln(w, "\nOptions:")
+		fs.PrintDefaults()
+	}
 }

@@ -28,16 +28,12 @@ func runModel(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	lpfHz := fs.Float64("sensor-lpf-hz", control.DefaultSensorLPFHz, "cut-off in `Hz` of the first-order sensor low-pass 1/(s/ωc + 1); 0 or negative leaves it out")
 	throttle := fs.String("throttle", "", "throttle `levels` of the plateaus in time order, comma-separated (one more than the steps, e.g. 0.2,0.5,0.3); without them K = 1 (normalised)")
 	format := fs.String("format", "text", "output `style`: text or json")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit model [OPTIONS] FILE")
-		fmt.Fprintln(stderr, "\nFor each step: the motor block K·e^(−θs)/(τs + 1) with its 95 % intervals; its")
-		fmt.Fprintln(stderr, "zero-order-hold equivalent at the loop rate (a = e^(−T/τ), b = K(1 − a), θ as")
-		fmt.Fprintln(stderr, "whole samples plus a fraction by the modified z-transform) and difference")
-		fmt.Fprintln(stderr, "equation; magnitude (dB) and phase lag (degrees, −atan(ωτ) − ωθ) at -at-hz;")
-		fmt.Fprintln(stderr, "the sensor low-pass and the combined lag; a SIMC PI starting point.")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit model [OPTIONS] FILE", `
+For each step: the motor block K·e^(−θs)/(τs + 1) with its 95 % intervals; its
+zero-order-hold equivalent at the loop rate (a = e^(−T/τ), b = K(1 − a), θ as
+whole samples plus a fraction by the modified z-transform) and difference
+equation; magnitude (dB) and phase lag (degrees, −atan(ωτ) − ωθ) at -at-hz;
+the sensor low-pass and the combined lag; a SIMC PI starting point.`)
 	files, status, ok := parseInterleaved(fs, args)
 	if !ok {
 		return status

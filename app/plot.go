@@ -34,14 +34,10 @@ func runPlot(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	width := fs.Float64("width-in", figure.DefaultWidthIn, "figure width in `inches` (PNG at 96 dpi)")
 	height := fs.Float64("height-in", figure.DefaultHeightIn, "figure height in `inches`")
 	force := fs.Bool("force", false, "overwrite an existing figure file")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit plot [OPTIONS] FILE -out PATH")
-		fmt.Fprintln(stderr, "\nAnalyses the recording and saves one figure: the spectrogram (dBFS colour")
-		fmt.Fprintln(stderr, "scale, tracked blade-pass and shaft lines, each step's fit as the track sees")
-		fmt.Fprintln(stderr, "it with its 95 % band, step markers, τ and θ in the title), or rpm against time.")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit plot [OPTIONS] FILE -out PATH", `
+Analyses the recording and saves one figure: the spectrogram (dBFS colour
+scale, tracked blade-pass and shaft lines, each step's fit as the track sees
+it with its 95 % band, step markers, τ and θ in the title), or rpm against time.`)
 	files, status, ok := parseInterleaved(fs, args)
 	if !ok {
 		return status

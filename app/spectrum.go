@@ -30,15 +30,11 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	nfft := fs.Int("nfft", 0, "segment length in `samples`, a power of two (0 = about 0.17 s)")
 	var ch channelFlag
 	fs.Var(&ch, "channel", "channel to analyse, numbered from 1, or mix (the mean of all channels)")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit spectrum --from S --to S [--blades N] [--channel K|mix] FILE")
-		fmt.Fprintln(stderr, "\nAverages the spectrum of one steady interval (Welch, Hann segments overlapping")
-		fmt.Fprintln(stderr, "by half) and lists its strongest peaks: frequency (Hz), level (dB re full")
-		fmt.Fprintln(stderr, "scale²/Hz) and the shaft order h the harmonic comb assigns (h × shaft frequency;")
-		fmt.Fprintln(stderr, "multiples of the blade count are blade-pass lines).")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit spectrum --from S --to S [--blades N] [--channel K|mix] FILE", `
+Averages the spectrum of one steady interval (Welch, Hann segments overlapping
+by half) and lists its strongest peaks: frequency (Hz), level (dB re full
+scale²/Hz) and the shaft order h the harmonic comb assigns (h × shaft frequency;
+multiples of the blade count are blade-pass lines).`)
 	file, status, ok := parseOne(fs, args)
 	if !ok {
 		return status

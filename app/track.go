@@ -96,16 +96,12 @@ func runTrack(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	force := fs.Bool("force", false, "overwrite the --out file if it exists")
 	minHz := fs.Float64("min-shaft-hz", 0, "lowest shaft frequency searched, `Hz` (0 = 40 Hz)")
 	maxHz := fs.Float64("max-shaft-hz", 0, "highest shaft frequency searched, `Hz` (0 = 1000 Hz, lowered to what the sample rate shows)")
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit track [--blades N] [--channel K|mix] [--out PATH] [--force] FILE")
-		fmt.Fprintln(stderr, "\nTracks the rotor speed and writes one CSV row per frame:")
-		fmt.Fprintln(stderr, "  time_s,rpm,shaft_hz,blade_pass_hz,confidence")
-		fmt.Fprintln(stderr, "time_s is the frame centre (s), rpm = 60 × shaft_hz, blade_pass_hz = blades ×")
-		fmt.Fprintln(stderr, "shaft_hz, confidence 0–1. Frames without a motor leave the fields after time_s")
-		fmt.Fprintln(stderr, "empty. Warnings go to standard error.")
-		fmt.Fprintln(stderr, "\nOptions:")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit track [--blades N] [--channel K|mix] [--out PATH] [--force] FILE", `
+Tracks the rotor speed and writes one CSV row per frame:
+  time_s,rpm,shaft_hz,blade_pass_hz,confidence
+time_s is the frame centre (s), rpm = 60 × shaft_hz, blade_pass_hz = blades ×
+shaft_hz, confidence 0–1. Frames without a motor leave the fields after time_s
+empty. Warnings go to standard error.`)
 	file, status, ok := parseOne(fs, args)
 	if !ok {
 		return status

@@ -32,12 +32,9 @@ func init() {
 func runOpen(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := flag.NewFlagSet("open", flag.ContinueOnError)
 	fs.SetOutput(stderr)
-	fs.Usage = func() {
-		fmt.Fprintln(stderr, "usage: whirlfit open FILE...")
-		fmt.Fprintln(stderr, "\nOpens the window on the recordings: the first one is analysed and shown,")
-		fmt.Fprintln(stderr, "and when there are several all of them go into the Compare tab.")
-		fs.PrintDefaults()
-	}
+	fs.Usage = usageFunc(fs, stderr, "whirlfit open FILE...", `
+Opens the window on the recordings: the first one is analysed and shown,
+and when there are several all of them go into the Compare tab.`)
 	if err := fs.Parse(args); err != nil {
 		if err == flag.ErrHelp {
 			return 0
