@@ -184,6 +184,14 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 		sub.y[c], sub.sw[c] = ym[i], d.sw[i]
 	}
 	Gs := make([]float64, len(pt))
+	// Grid points and polished starts are ranked by a truncated square
+	// loss, Σ min(r², (c·s)²) with s the track's own noise: a stretch
+	// where the tracker followed another line (a run of samples far off
+	// the curve, often with small error estimates) then costs a fixed
+	// amount per sample instead of pulling the onset and τ towards it
+	// (a redescending M-estimate in the sense of P. J. Huber, Robust
+	// Statistics, Wiley 1981; from memory).
+	cut := robustCut(d)
 	best := make([]profPoint, 0, nt0*ntau)
 	for _, tau := range taus {
 		ft := d.k.prepare(tau)
@@ -192,7 +200,14 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 			for c, i := range pt {
 				Gs[c] = d.k.seenG(d.t[i]-t0, &ft)
 			}
-			_, _, rss := sub.linSolve(Gs, o.fixR0, o.r0)
+			a, b, rss := sub.linSolve(Gs, o.fixR0, o.r0)
+			if cut > 0 {
+				rss = 0
+				for c := range Gs {
+					r := sub.sw[c] * (sub.y[c] - a - b*Gs[c])
+					rss += math.Min(r*r, cut)
+				}
+			}
 			best = append(best, profPoint{t0, tau, rss})
 		}
 	}
@@ -261,8 +276,16 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 		if err != nil && !errors.Is(err, ErrNoProgress) {
 			continue
 		}
-		if res.RSS < bestRSS {
-			bestRSS = res.RSS
+		loss := res.RSS
+		if cut > 0 {
+			q := p
+			for c, k := range free {
+				q[k] = res.P[c]
+			}
+			loss = d.truncatedLoss(&q, free, cut)
+		}
+		if loss < bestRSS {
+			bestRSS = loss
 			for c, q := range free {
 				p[q] = res.P[c]
 			}
@@ -274,6 +297,33 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 	}
 	d.finish(out)
 	return out, nil
+}
+
+// robustCutK is c of the truncated loss, in noise standard deviations.
+const robustCutK = 4
+
+// robustCut returns (c·s)² for the truncated loss, s being the track's
+// noise from differences one analysis window apart; 0 when it cannot be
+// measured (then plain least squares ranks the fits).
+func robustCut(d *stepData) float64 {
+	lag := max(1, int(math.Ceil(d.k.spanS()/d.hop)))
+	s := robustNoise(d.y, lag)
+	if !(s > 0) || math.IsInf(s, 0) {
+		return 0
+	}
+	return (robustCutK * s) * (robustCutK * s)
+}
+
+// truncatedLoss is Σ min(r², cut) of the weighted residuals under p.
+func (d *stepData) truncatedLoss(p *[numPar]float64, free []int, cut float64) float64 {
+	m := make([]float64, d.n())
+	d.model(m, nil, p, free)
+	loss := 0.0
+	for i := range m {
+		r := d.sw[i]*d.y[i] - m[i]
+		loss += math.Min(r*r, cut)
+	}
+	return loss
 }
 
 // finish fills the residuals and total sum of squares of a solution.

@@ -337,8 +337,16 @@ func dropOutliers(d *stepData, fit *stepFitOut, limit int) int {
 	for i := range r {
 		r[i] = d.sw[i]*d.y[i] - m[i]
 	}
-	return d.dropBeyond(r, limit)
+	lag := max(1, int(math.Ceil(d.k.spanS()/d.hop)))
+	return d.dropBeyondK(r, limit, robustNoise(d.y, lag), fitOutlierK)
 }
+
+// fitOutlierK is the residual, in robust standard deviations, beyond which
+// a sample counts as off the fitted curve. It is lower than outlierK: the
+// fitted curve is a far better reference than a running median, and a
+// run of samples on another line (the tracker's confusion, often with
+// small error estimates) must not stay in to pull the onset.
+const fitOutlierK = 5
 
 // maxForeignRunS is the longest run of samples dropForeignRuns removes.
 const maxForeignRunS = 0.25
@@ -415,7 +423,11 @@ func dropForeignRuns(d *stepData) int {
 // neighbours (in sample order) by more than outlierK robust standard
 // deviations of that difference, at most a quarter of them. A monotone
 // stretch, however steep, is its own running median, so a fast transition
-// is never touched. It returns how many went.
+// is never touched. The scale is never below the track's own noise (from
+// differences one analysis window apart): noise correlated over many frames
+// is locally monotone too, so the differences from the running median are
+// mostly exactly zero and their MAD alone would call every noise extreme a
+// spike. It returns how many went.
 func despike(d *stepData) int {
 	n := d.n()
 	if n < 8 {
@@ -430,24 +442,31 @@ func despike(d *stepData) int {
 		}
 		e[i] = d.sw[i] * (d.y[i] - median(win))
 	}
-	return d.dropBeyond(e, n/4)
+	lag := max(1, int(math.Ceil(d.k.spanS()/d.hop)))
+	return d.dropBeyond(e, n/4, robustNoise(d.y, lag))
 }
 
 // dropBeyond removes the samples whose e lies beyond outlierK·1.4826·MAD(e)
-// from the median of e, the largest first, at most limit.
-func (d *stepData) dropBeyond(e []float64, limit int) int {
+// from the median of e (the robust sd taken as at least floor), the largest
+// first, at most limit.
+func (d *stepData) dropBeyond(e []float64, limit int, floor float64) int {
+	return d.dropBeyondK(e, limit, floor, outlierK)
+}
+
+// dropBeyondK is dropBeyond with the threshold k robust sds.
+func (d *stepData) dropBeyondK(e []float64, limit int, floor, k float64) int {
 	med := median(e)
 	abs := make([]float64, len(e))
 	for i := range e {
 		abs[i] = math.Abs(e[i] - med)
 	}
-	mad := 1.4826 * median(abs)
+	mad := math.Max(1.4826*median(abs), floor)
 	if !(mad > 0) {
 		return 0
 	}
 	var bad []int
 	for i, a := range abs {
-		if a > outlierK*mad {
+		if a > k*mad {
 			bad = append(bad, i)
 		}
 	}

@@ -1,0 +1,122 @@
+package evaluate
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strconv"
+	"strings"
+	"testing"
+
+	"whirlfit/analysis"
+	"whirlfit/dsp/synth"
+)
+
+var (
+	evalDiag  = flag.Bool("eval.diag", false, "run TestSweepDiagnostics: per-step intervals and warnings of the sweep's cases")
+	evalTrack = flag.String("eval.track", "", "with -eval.diag, `case:from:to`: also print that case's track samples between from and to seconds")
+)
+
+// TestSweepDiagnostics prints, for the same random cases as TestSweep, every
+// true step next to the reported intervals and warnings, with and without
+// command times. It measures nothing on its own; it is the tool for finding
+// why a sweep case misses.
+func TestSweepDiagnostics(t *testing.T) {
+	if !*evalDiag {
+		t.Skip("diagnostics only with -eval.diag")
+	}
+	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
+	opts := synth.DefaultRandomOptions()
+	for i := range *evalN {
+		c := synth.RandomScene(rng, opts)
+		chans, err := c.Render()
+		if err != nil {
+			t.Fatalf("case %d: render: %v", i, err)
+		}
+		a, err := decodeCase(t, i, c, chans)
+		if err != nil {
+			t.Errorf("case %d: decode: %v", i, err)
+			continue
+		}
+		cfg := analysis.Config{Blades: c.Truth.Blades}
+		if c.Truth.TriggerChannel >= 0 {
+			cfg.Channel = 1
+		}
+		var cmds []float64
+		for _, st := range c.Truth.Steps {
+			cmds = append(cmds, st.CommandS)
+		}
+		t.Logf("case %d %s", i, c.String())
+		var tc int
+		var tFrom, tTo float64
+		dumpTrack := false
+		if *evalTrack != "" {
+			if _, err := fmt.Sscanf(strings.ReplaceAll(*evalTrack, ":", " "), "%d %g %g", &tc, &tFrom, &tTo); err == nil && tc == i {
+				dumpTrack = true
+			}
+		}
+		for _, with := range []bool{true, false} {
+			cfg.CommandTimesS = nil
+			if with {
+				cfg.CommandTimesS = cmds
+			}
+			rep, err := analysis.Run(context.Background(), a, cfg, nil)
+			if err != nil {
+				t.Errorf("case %d: %v", i, err)
+				continue
+			}
+			if dumpTrack && with {
+				tr := rep.Track
+				for k, ts := range tr.TimeS {
+					if ts >= tFrom && ts <= tTo {
+						t.Logf("   track %.4f %.1f sd %.2f conf %.2f", ts, analysis.RPM(tr.ShaftHz[k]), analysis.RPM(tr.SigmaHz[k]), tr.Confidence[k])
+					}
+				}
+			}
+			for _, st := range c.Truth.Steps {
+				start := st.CommandS + st.DeadS
+				best, bestD := -1, 0.3
+				for j, r := range rep.Steps {
+					d := math.Abs(r.ResponseStartS - start)
+					if with && r.CommandS != nil {
+						d = math.Abs(*r.CommandS - st.CommandS)
+					}
+					if d < bestD {
+						best, bestD = j, d
+					}
+				}
+				if best < 0 {
+					t.Logf("   cmd=%v true start %.3f τ %.1f ms θ %.1f ms %.0f→%.0f Hz: NO RESULT", with, start, 1e3*st.TauS, 1e3*st.DeadS, st.FromHz, st.TargetHz)
+					continue
+				}
+				r := rep.Steps[best]
+				mt, mth := "", ""
+				if !(r.TauS.CI95[0] <= st.TauS && st.TauS <= r.TauS.CI95[1]) {
+					mt = "!"
+				}
+				th := "-"
+				if r.DeadTimeS != nil {
+					if !(r.DeadTimeS.CI95[0] <= st.DeadS && st.DeadS <= r.DeadTimeS.CI95[1]) {
+						mth = "!"
+					}
+					th = strings.Join([]string{f1(1e3 * r.DeadTimeS.Value), "[", f1(1e3 * r.DeadTimeS.CI95[0]), f1(1e3 * r.DeadTimeS.CI95[1]), "]"}, " ")
+				}
+				t.Logf("   cmd=%v true start %.3f τ %.1f ms θ %.1f ms %.0f→%.0f Hz | got %s start %.3f τ %.1f [%.1f %.1f]%s θ %s%s R² %.3f | %q",
+					with, start, 1e3*st.TauS, 1e3*st.DeadS, st.FromHz, st.TargetHz, r.Direction, r.ResponseStartS,
+					1e3*r.TauS.Value, 1e3*r.TauS.CI95[0], 1e3*r.TauS.CI95[1], mt, th, mth, r.R2, r.Warnings)
+			}
+			if !with {
+				for _, r := range rep.Steps {
+					t.Logf("   reported %s start %.3f τ %.1f ms", r.Direction, r.ResponseStartS, 1e3*r.TauS.Value)
+				}
+				for _, w := range rep.Warnings {
+					t.Logf("   file warning: %s", w)
+				}
+			}
+		}
+	}
+}
+
+func f1(v float64) string { return strconv.FormatFloat(v, 'f', 1, 64) }
