@@ -844,14 +844,19 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 	lobeHz := lobeBins * natBin
 	b := max(blades, 1)
 	half := (rc.FrameLen/2 + rc.Hop - 1) / rc.Hop
-	// The first pass's range over each frame, before any sample changes.
+	// The first pass's range over each frame, before any sample changes,
+	// from its despiked track: a frame captured for a moment by a passing
+	// line must not widen the bands.
+	ds := &Track{ShaftHz: slices.Clone(tr.ShaftHz), SigmaHz: slices.Clone(tr.SigmaHz),
+		Confidence: slices.Clone(tr.Confidence), TimeS: tr.TimeS}
+	despikeTrack(ds, despikeHalf)
 	lo, hi := make([]float64, nf), make([]float64, nf)
 	mark := make([]bool, nf)
 	for i := range nf {
 		lo[i], hi[i] = math.Inf(1), math.Inf(-1)
 		for j := max(0, i-half); j <= min(nf-1, i+half); j++ {
-			if tr.Valid(j) {
-				lo[i], hi[i] = min(lo[i], tr.ShaftHz[j]), max(hi[i], tr.ShaftHz[j])
+			if ds.Valid(j) {
+				lo[i], hi[i] = min(lo[i], ds.ShaftHz[j]), max(hi[i], ds.ShaftHz[j])
 			}
 		}
 		mark[i] = float64(b)*(hi[i]-lo[i]) > natBin
@@ -859,6 +864,7 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 	bins := rc.Bins()
 	nyq := 0.45 * fs
 	maxH := len(scratch[0].cest)
+	zPre, zPost := make([]float32, bins), make([]float32, bins)
 	for i := 0; i < nf; {
 		if !mark[i] {
 			i++
@@ -867,6 +873,23 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 		j := i
 		for j < nf && mark[j] {
 			j++
+		}
+		// The steady frames either side of the run show the lines of other
+		// sources that the moving line's bands cross (a tone, hum, another
+		// machine): bins with a line in both, away from the rotor's own
+		// lines there, are left out of the centroids.
+		fPre, fPost := math.NaN(), math.NaN()
+		if i > 0 && ds.Valid(i-1) {
+			if err := tk.whitenFrame(ctx, rc, i-1, zPre, &scratch[0]); err != nil {
+				return err
+			}
+			fPre = ds.ShaftHz[i-1]
+		}
+		if j < nf && ds.Valid(j) {
+			if err := tk.whitenFrame(ctx, rc, j, zPost, &scratch[0]); err != nil {
+				return err
+			}
+			fPost = ds.ShaftHz[j]
 		}
 		// Frames [i, j) are samples [i·hop, (j−1)·hop + frame).
 		first := i
@@ -891,7 +914,9 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 				if b1-b0 <= 2*lobeBins*pad {
 					continue
 				}
-				c, sdBins, mv, ok := lineCentroid(re, im, s.z, b0, b1, lobeBins*pad)
+				m := foreignMask{pre: zPre, post: zPost, preOK: !math.IsNaN(fPre), postOK: !math.IsNaN(fPost)}
+				m.own(fPre, fPost, h, binHz, lobeBins*pad)
+				c, sdBins, mv, ok := lineCentroid(re, im, s.z, b0, b1, lobeBins*pad, &m)
 				if !ok {
 					continue
 				}
@@ -912,6 +937,59 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 		i = j
 	}
 	return nil
+}
+
+// whitenFrame writes the whitened spectrum of refinement frame i to dst.
+func (tk *tracker) whitenFrame(ctx context.Context, rc dsp.STFTConfig, i int, dst []float32, s *refineScratch) error {
+	x := tk.x[i*rc.Hop : i*rc.Hop+rc.FrameLen]
+	err := rc.Process(ctx, x, tk.fs, func(_, _ int, re, im []float32) {
+		s.wh.whiten(dst, s.pk, re, im)
+	}, nil)
+	if err != nil {
+		return fmt.Errorf("analysis: tracking: %w", err)
+	}
+	return nil
+}
+
+// foreignMask marks the bins of another source's lines: a line (excess
+// above foreignZ) in the steady frames on both sides of a moving run (or
+// the one side there is), away from the rotor's own line of the order at
+// hand in that frame ([preLo, preHi], [postLo, postHi]).
+type foreignMask struct {
+	pre, post      []float32
+	preOK, postOK  bool
+	preLo, preHi   int
+	postLo, postHi int
+}
+
+// foreignZ is the excess (nepers, as refineMinZ) that marks a line in the
+// steady frames.
+const foreignZ = refineMinZ
+
+// own sets the rotor's own line of order h in the steady frames.
+func (m *foreignMask) own(fPre, fPost float64, h int, binHz float64, lobe int) {
+	if m.preOK {
+		c := int(math.Round(float64(h) * fPre / binHz))
+		m.preLo, m.preHi = c-lobe, c+lobe
+	}
+	if m.postOK {
+		c := int(math.Round(float64(h) * fPost / binHz))
+		m.postLo, m.postHi = c-lobe, c+lobe
+	}
+}
+
+// foreign reports whether bin k holds another source's line.
+func (m *foreignMask) foreign(k int) bool {
+	if m == nil || (!m.preOK && !m.postOK) {
+		return false
+	}
+	if m.preOK && (m.pre[k] < foreignZ || (k >= m.preLo && k <= m.preHi)) {
+		return false
+	}
+	if m.postOK && (m.post[k] < foreignZ || (k >= m.postLo && k <= m.postHi)) {
+		return false
+	}
+	return true
 }
 
 // Moving-line centroid (refine).
@@ -984,8 +1062,9 @@ func lineBand(h, blades int, fa, fb, lobeHz float64) (lo, hi float64, clean bool
 // (the first frequency moment of the spectrogram: L. Cohen, Time-Frequency
 // Analysis, Prentice Hall 1995 (from memory)); for a steady Hann line its
 // bias over ±3 bins is below 2e-4 bin (simulated here). ok is false when
-// the band's excess is below centroidMinSNR.
-func lineCentroid(re, im, z []float32, k1, k2, lobe int) (c, sd float64, moved, ok bool) {
+// the band's excess is below centroidMinSNR. Bins that mask marks as
+// another source's (mask may be nil) are left out.
+func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask) (c, sd float64, moved, ok bool) {
 	// The floor is interpolated (in log) between the whitener's floors just
 	// outside the band, or the whitener's own where lower: a line spread
 	// over many bins lifts the block quantiles under it. The excess is
@@ -1002,7 +1081,7 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int) (c, sd float64, moved, 
 	}
 	kp := k1
 	for k := k1; k <= k2; k++ {
-		if z[k] > z[kp] {
+		if z[k] > z[kp] && !mask.foreign(k) {
 			kp = k
 		}
 	}
@@ -1012,6 +1091,9 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int) (c, sd float64, moved, 
 	kc := float64(k1+k2) / 2
 	var sp, skp, sfl float64
 	for k := k1; k <= k2; k++ {
+		if mask.foreign(k) {
+			continue
+		}
 		g := levelWeight(float64(k) / kc)
 		fl := floor(k)
 		e := (float64(re[k])*float64(re[k]) + float64(im[k])*float64(im[k]) - fl) * g
@@ -1027,6 +1109,9 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int) (c, sd float64, moved, 
 	// times noise), propagated to the centroid.
 	var v, in, vOut float64
 	for k := k1; k <= k2; k++ {
+		if mask.foreign(k) {
+			continue
+		}
 		g := levelWeight(float64(k) / kc)
 		fl := floor(k)
 		e := float64(re[k])*float64(re[k]) + float64(im[k])*float64(im[k]) - fl
