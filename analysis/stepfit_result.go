@@ -185,7 +185,10 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	// An interval reaching past the search range says only that the data
 	// cannot narrow it further; keep every bound finite (and JSON-safe).
 	tauLo, tauHi = clampFinite(tauLo, tauMinS, tauMaxS), clampFinite(tauHi, tauMinS, tauMaxS)
-	t0Lo, t0Hi = clampFinite(t0Lo, p.fromS, p.toS), clampFinite(t0Hi, p.fromS, p.toS)
+	// (A start from standstill seen late may have its onset before the
+	// first sample fitted.)
+	tFirst := math.Min(p.fromS, p.onsetLo)
+	t0Lo, t0Hi = clampFinite(t0Lo, tFirst, p.toS), clampFinite(t0Hi, tFirst, p.toS)
 	r0, dl, t0 := fit.p[parR0], fit.p[parDelta], fit.p[parT0]
 	tau = math.Exp(lnTau)
 	res := &StepResult{Direction: Up, ResponseStartS: t0}

@@ -108,8 +108,16 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 			}
 			continue
 		}
+		if plans[i].hasCommand() && !plans[i].standstill && plans[i].onsetHi-res.ResponseStartS < 2*hop {
+			if alt := standstillAlternative(tr, &k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
+				res = alt
+			}
+		}
 		if !plans[i].hasCommand() {
-			if why := notAStep(res, cfg); why != "" {
+			if plans[i].sharp && res.TauS.Value <= tauMinS*1.01 {
+				res.Warnings = append(res.Warnings, "the track jumps here faster than the analysis window lets any change of speed through (the tracker probably caught the new speed late); the time constant cannot be read from it")
+			}
+			if why := notAStep(res, &plans[i], cfg); why != "" {
 				warns = append(warns, fmt.Sprintf("a change near %.2f s was not taken as a step: %s", res.ResponseStartS, why))
 				continue
 			}
@@ -126,20 +134,20 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 // bottom of the range is a jump of the tracker to another line, which the
 // window-smoothed model cannot follow), and the change must be
 // significant, large enough and fast enough.
-func notAStep(r *StepResult, cfg StepConfig) string {
+func notAStep(r *StepResult, p *stepPlan, cfg StepConfig) string {
 	level := math.Max(math.Abs(r.RPMBefore.Value), math.Abs(r.RPMAfter.Value))
 	switch {
 	case r.R2 < detectMinR2:
 		return fmt.Sprintf("a first-order step does not describe it (R² = %.2f)", r.R2)
 	case r.TauS.Value >= tauMaxS*0.999:
 		return "its time constant ran to the limit of the search"
-	case r.TauS.Value <= tauMinS*1.01:
+	case r.TauS.Value <= tauMinS*1.01 && !p.sharp:
 		return "it is sharper than any first-order change seen through the analysis window (a tracking jump)"
 	case math.Abs(r.DeltaRPM.Value) < cfg.MinChangeFraction*level:
 		return fmt.Sprintf("the change of %.0f rpm is below %.0f %% of the speed", math.Abs(r.DeltaRPM.Value), 100*cfg.MinChangeFraction)
 	case r.DeltaRPM.CI95[0] <= 0 && r.DeltaRPM.CI95[1] >= 0:
 		return "the change is not significant"
-	case r.Rise1090S.Value > cfg.MaxRiseS:
+	case r.Rise1090S.Value > cfg.MaxRiseS && !p.standstill:
 		return fmt.Sprintf("it rises too slowly for a step (10–90 %% in %.2f s)", r.Rise1090S.Value)
 	}
 	return ""
@@ -156,9 +164,12 @@ type stepPlan struct {
 	fromS, toS       float64
 	standstill       bool // starts from standstill: r0 = 0
 	notes            []string
-	// Detection only: the direction and the time the track reached 90 %.
-	up  bool
-	t90 float64
+	// Detection only: the direction, the time the track reached 90 %, and
+	// whether the track jumps to a lasting new level faster than the
+	// window allows (a step the tracker caught late).
+	up    bool
+	t90   float64
+	sharp bool
 }
 
 func (p *stepPlan) anchor() float64 {
@@ -192,6 +203,36 @@ func planWindows(plans []stepPlan, tr *Track, k *fopdtKernel) {
 			p.onsetHi = p.onsetLo
 		}
 	}
+}
+
+// standstillAlternative refits a commanded rise whose onset ran to the end
+// of the dead-time search as a start from standstill seen late: before the
+// rotor is loud enough the tracker may follow another steady sound (a
+// second machine, hum), which looks like a plateau, and it joins the rotor
+// only where the rising speed crosses that sound's line. The refit holds
+// r0 at 0 and uses only the track after that join (an exponential rise is
+// the same curve from any point on, so the onset follows from where and
+// how steeply the visible part rises). It returns nil when that does not
+// explain the track better: the onset must then lie well inside the
+// search and the fit must describe the rise. The line before may lie above
+// the rotor's (then the first fit even calls the step a fall).
+func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, res *StepResult, cfg StepConfig, stepNo uint64) *StepResult {
+	q := p
+	q.standstill = true
+	q.notes = append([]string(nil), p.notes...)
+	q.fromS = res.ResponseStartS + k.right + hop
+	if q.toS-q.fromS < minPostWindowS/2 {
+		return nil
+	}
+	alt, err := fitPlan(tr, k, hop, &q, cfg, stepNo)
+	if err != nil || alt.DeadTimeS == nil || alt.R2 < detectMinR2 || alt.DeltaRPM.Value <= 0 {
+		return nil
+	}
+	if th := alt.DeadTimeS.Value; th >= 0.9*(p.onsetHi-p.commandS) {
+		return nil
+	}
+	alt.Warnings = append(alt.Warnings, fmt.Sprintf("taken as a start from standstill: the track holds %.0f rpm until %.3f s, longer than any dead time searched, and then rises as a spin-up from 0 rpm would; the steady line before is taken as another sound the tracker followed while the rotor stood still", res.RPMBefore.Value, res.ResponseStartS))
+	return alt
 }
 
 // markStandstill treats a commanded step with no motor in the track before

@@ -212,12 +212,19 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		if math.IsNaN(t10) || math.IsNaN(t90) {
 			continue
 		}
+		sharp := false
 		if rise := t90 - t10; rise < 0.6*k.riseS() {
 			// Sharper than the analysis window can show any change of
-			// speed: the tracker jumped (to another line), the rotor did
-			// not.
-			warns = append(warns, fmt.Sprintf("the track jumps by %.0f rpm near %.2f s faster than the analysis window allows; taken as a tracking error, not a step", RPM(bestChange), tr.TimeS[c]))
-			continue
+			// speed: either the tracker jumped to another line for a
+			// while, or it held on to the old line (reverberation, a
+			// masking sound) and caught the new one late. Only the second
+			// leaves a lasting change of level; keep that one as a step
+			// whose time constant the track cannot show.
+			if !persistentChange(y, c, left, right, hop, bestChange) {
+				warns = append(warns, fmt.Sprintf("the track jumps by %.0f rpm near %.2f s faster than the analysis window allows, and comes back; taken as a tracking error, not a step", RPM(bestChange), tr.TimeS[c]))
+				continue
+			}
+			sharp = true
 		} else if rise > cfg.MaxRiseS+k.spanS() {
 			warns = append(warns, fmt.Sprintf("a slow change of %.0f rpm near %.2f s (10–90 %% in %.2f s) looks like a ramp, not a step; not fitted", RPM(bestChange), tr.TimeS[c], rise))
 			continue
@@ -227,7 +234,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		onset := t10
 		plans = append(plans, stepPlan{commandS: math.NaN(),
 			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop,
-			up: bestChange > 0, t90: t90})
+			up: bestChange > 0, t90: t90, sharp: sharp})
 	}
 	sort.Slice(plans, func(a, b int) bool { return plans[a].onsetLo < plans[b].onsetLo })
 	// Merge plans whose onset ranges overlap (one transition seen twice),
@@ -257,6 +264,23 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		p.toS = math.Min(p.toS, p.onsetHi+math.Max(minPostWindowS, 15*tauEst))
 	}
 	return merged, warns
+}
+
+// persistentChange reports whether the change at c lasts: the levels 0.1 to
+// 0.25 s either side of it (within left..right) still differ by at least
+// 80 % of change, in its direction.
+func persistentChange(y []float64, c, left, right int, hop, change float64) bool {
+	near := int(math.Round(0.1 / hop))
+	far := int(math.Round(0.25 / hop))
+	if c-far < left || c+far > right {
+		return false
+	}
+	b := windowMedian(y, c-far, c-near)
+	a := windowMedian(y, c+near, c+far)
+	if math.IsNaN(a) || math.IsNaN(b) {
+		return false
+	}
+	return (a-b)/change >= 0.8
 }
 
 // crossingsAround finds, walking out from index c, the last time before c
