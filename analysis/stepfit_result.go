@@ -182,6 +182,28 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		}
 	}
 
+	// Model check: the rise seen after the kernel has left the onset is a
+	// plain exponential, and on its own (with r0 held) it fixes τ and, by
+	// extrapolation, the onset. When the tracker lags or sharpens the
+	// transition (reverberation holding the old line, a late hand-over
+	// between lines) the two readings disagree by more than their noise;
+	// the intervals then cover both.
+	if tc := tailCheck(d, fit, opts, k, hop, maxLag); tc != nil {
+		hT := math.Hypot(hT0, tc.hT0)
+		hL := math.Hypot(hLnTau, tc.hLnTau)
+		if math.Abs(tc.t0-fit.p[parT0]) > hT || math.Abs(tc.lnTau-lnTau) > hL {
+			t0Lo, t0Hi = math.Min(t0Lo, tc.t0-tc.hT0), math.Max(t0Hi, tc.t0+tc.hT0)
+			tauLo, tauHi = math.Min(tauLo, math.Exp(tc.lnTau-tc.hLnTau)), math.Max(tauHi, math.Exp(tc.lnTau+tc.hLnTau))
+			notes = append(notes, fmt.Sprintf("the rise after the onset alone gives τ = %.4g s and an onset %.1f ms %s, against %.4g s from the whole step: the track's transition does not look like the window-averaged first-order curve (a lagging or jumping tracker); the intervals cover both", math.Exp(tc.lnTau), 1e3*math.Abs(tc.t0-fit.p[parT0]), map[bool]string{true: "later", false: "earlier"}[tc.t0 > fit.p[parT0]], math.Exp(lnTau)))
+		}
+	}
+	// A step the track shows as a jump (τ at the bottom of its range), or
+	// whose onset ran to the end of its search, could have begun any time
+	// after the command up to where the track moves.
+	if p.hasCommand() && (lnTau <= math.Log(tauMinS)+1e-6 || p.onsetHi-fit.p[parT0] < 1e-4) {
+		t0Lo = math.Min(t0Lo, p.commandS)
+	}
+
 	// An interval reaching past the search range says only that the data
 	// cannot narrow it further; keep every bound finite (and JSON-safe).
 	tauLo, tauHi = clampFinite(tauLo, tauMinS, tauMaxS), clampFinite(tauHi, tauMinS, tauMaxS)
@@ -287,6 +309,66 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		RPMBefore: RPM(r0), DeltaRPM: RPM(dl), TauS: tau, k: *k, cov: cov, tq: tq}
 	res.Fit = sf
 	return res, nil
+}
+
+// tailResult is the model check of tailCheck: onset and ln τ from the rise
+// after the onset, with their 95 % half-widths.
+type tailResult struct {
+	t0, lnTau, hT0, hLnTau float64
+}
+
+// tailCheck refits a step on the samples past the kernel's reach of the
+// fitted onset, r0 held at its fitted value. It returns nil when that
+// stretch holds too little of the rise to say anything (a fast step, a
+// short window).
+func tailCheck(d *stepData, fit *stepFitOut, o stepFitOpts, k *fopdtKernel, hop float64, maxLag int) *tailResult {
+	tau := math.Exp(fit.p[parLnTau])
+	from := fit.p[parT0] + k.right + hop
+	if tau < 3*hop || d.n() == 0 || d.t[d.n()-1]-from < 3*tau {
+		return nil
+	}
+	// The rise left after from must be a fair share of the change.
+	if math.Exp(-(from-fit.p[parT0])/tau) < 0.3 {
+		return nil
+	}
+	td := &stepData{hop: d.hop, k: d.k}
+	for i, t := range d.t {
+		if t >= from {
+			td.t = append(td.t, t)
+			td.y = append(td.y, d.y[i])
+			td.sw = append(td.sw, d.sw[i])
+			td.idx = append(td.idx, d.idx[i])
+		}
+	}
+	if td.n() < 16 {
+		return nil
+	}
+	to := o
+	to.fixR0, to.r0 = true, fit.p[parR0]
+	to.t0Hi = math.Min(o.t0Hi+tau, from)
+	to.t0Lo = math.Min(o.t0Lo, to.t0Hi)
+	tf, err := fitFOPDT(td, to)
+	if err != nil {
+		return nil
+	}
+	cc, err := corrCovariance(tf.J, tf.resid, td.idx, maxLag, kernelAutocorr(nil, 0, hop, maxLag))
+	if err != nil || cc.ridged {
+		return nil
+	}
+	tq := tQuantile975(cc.df)
+	var hT, hL float64
+	for c, q := range tf.free {
+		switch q {
+		case parT0:
+			hT = tq * math.Sqrt(cc.cov.At(c, c))
+		case parLnTau:
+			hL = tq * math.Sqrt(cc.cov.At(c, c))
+		}
+	}
+	if !(hT > 0) || !(hL > 0) || math.IsInf(hT, 0) || math.IsInf(hL, 0) {
+		return nil
+	}
+	return &tailResult{t0: tf.p[parT0], lnTau: tf.p[parLnTau], hT0: math.Hypot(hT, onsetFloorS), hLnTau: math.Hypot(hL, tauFloorRel)}
 }
 
 // clampFinite limits v to [lo, hi] (NaN becomes lo).
