@@ -901,6 +901,7 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 			s.wh.whiten(s.z, s.pk, re, im)
 			nc := 0
 			moved := false
+			nb := 0 // blade-pass harmonics among the centroids
 			for h := 1; h <= maxH && float64(h)*fb+lobeHz < nyq; h++ {
 				if h > 2 && h%b != 0 {
 					continue
@@ -922,10 +923,26 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 				}
 				s.cest[nc], s.csd[nc], s.chs[nc] = c*binHz/float64(h), sdBins*binHz/float64(h), h
 				nc++
+				if h%b == 0 {
+					nb++
+				}
 				moved = moved || mv
 			}
 			if !moved {
 				return
+			}
+			if nb > 0 && nb < nc {
+				// Pool the blade-pass harmonics only: the shaft-order
+				// lines are weaker, so other sources' lines in their bands
+				// weigh more.
+				n := 0
+				for q := range nc {
+					if s.chs[q]%b == 0 {
+						s.cest[n], s.csd[n], s.chs[n] = s.cest[q], s.csd[q], s.chs[q]
+						n++
+					}
+				}
+				nc = n
 			}
 			if f, sd, ok := poolHarmonics(s.cest[:nc], s.csd[:nc], s.chs[:nc], s.ord[:nc], natBin); ok && f > fa && f < fb {
 				tr.ShaftHz[i], tr.SigmaHz[i] = f, sd
