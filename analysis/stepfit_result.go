@@ -1,6 +1,7 @@
 package analysis
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -182,6 +183,27 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		}
 	}
 
+	// Local-influence check: the delete-a-block jackknife sees what the
+	// residual statistics cannot, a few neighbouring samples (a stretch of
+	// tracker trouble near the onset) that decide θ or τ on their own.
+	// It widens only where it is well beyond the analytic half-width (on
+	// clean tracks the two agree within their own scatter).
+	if jk := blockJackknife(d, fit, opts, winLag); jk != nil {
+		for c, q := range free {
+			h := tq * jk[c].sd
+			switch q {
+			case parLnTau:
+				if h > jackknifeWiden*hLnTau {
+					tauLo, tauHi = math.Min(tauLo, math.Exp(lnTau-h)), math.Max(tauHi, math.Exp(lnTau+h))
+				}
+			case parT0:
+				if h > jackknifeWidenOnset*hT0 {
+					t0Lo, t0Hi = math.Min(t0Lo, fit.p[parT0]-h), math.Max(t0Hi, fit.p[parT0]+h)
+				}
+			}
+		}
+	}
+
 	// Model check: the rise seen after the kernel has left the onset is a
 	// plain exponential, and on its own (with r0 held) it fixes τ and, by
 	// extrapolation, the onset. When the tracker lags or sharpens the
@@ -309,6 +331,83 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		RPMBefore: RPM(r0), DeltaRPM: RPM(dl), TauS: tau, k: *k, cov: cov, tq: tq}
 	res.Fit = sf
 	return res, nil
+}
+
+// jackknifeWiden is how far beyond the analytic half-width the jackknife's
+// must reach before it widens an interval.
+// The onset sits at a kink of the model, where the jackknife is known to
+// overstate the spread (as for a median); it must reach further.
+const (
+	jackknifeWiden      = 1.5
+	jackknifeWidenOnset = 3
+)
+
+// maxJackknifeBlocks bounds the refits of blockJackknife.
+const maxJackknifeBlocks = 32
+
+type jackSD struct{ sd float64 }
+
+// blockJackknife is the delete-a-group jackknife over contiguous blocks of
+// at least block samples (M. H. Quenouille 1956 and J. W. Tukey 1958 for the
+// jackknife, H. R. Künsch 1989 for blocks of dependent data; from memory):
+// each block is left out in turn, the fit polished from the full solution,
+// and var = (g − 1)/g · Σ (θ_j − θ̄)². It returns the standard deviation of
+// each free parameter, or nil with fewer than eight blocks.
+func blockJackknife(d *stepData, fit *stepFitOut, o stepFitOpts, block int) []jackSD {
+	n := d.n()
+	L := max(block, (n+maxJackknifeBlocks-1)/maxJackknifeBlocks)
+	g := n / L
+	if g < 8 {
+		return nil
+	}
+	lower, upper := fitBounds(d, o, fit.free)
+	np := len(fit.free)
+	vals := make([][]float64, np)
+	sub := &stepData{hop: d.hop, k: d.k}
+	for j := 0; j < g; j++ {
+		lo, hi := j*L, (j+1)*L
+		if j == g-1 {
+			hi = n
+		}
+		sub.t, sub.y, sub.sw, sub.idx = sub.t[:0], sub.y[:0], sub.sw[:0], sub.idx[:0]
+		for i := 0; i < n; i++ {
+			if i >= lo && i < hi {
+				continue
+			}
+			sub.t = append(sub.t, d.t[i])
+			sub.y = append(sub.y, d.y[i])
+			sub.sw = append(sub.sw, d.sw[i])
+			sub.idx = append(sub.idx, d.idx[i])
+		}
+		if sub.n() <= np+2 {
+			return nil
+		}
+		res, _, err := sub.polish(fit.p, fit.free, lower, upper)
+		if err != nil && !res.Converged && !errors.Is(err, ErrNoProgress) {
+			continue
+		}
+		for c := range fit.free {
+			vals[c] = append(vals[c], res.P[c])
+		}
+	}
+	m := len(vals[0])
+	if m < g-1 || m < 8 {
+		return nil
+	}
+	out := make([]jackSD, np)
+	for c := range vals {
+		mean := 0.0
+		for _, v := range vals[c] {
+			mean += v
+		}
+		mean /= float64(m)
+		ss := 0.0
+		for _, v := range vals[c] {
+			ss += (v - mean) * (v - mean)
+		}
+		out[c].sd = math.Sqrt(float64(m-1) / float64(m) * ss)
+	}
+	return out
 }
 
 // tailResult is the model check of tailCheck: onset and ln τ from the rise
