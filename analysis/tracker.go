@@ -1029,8 +1029,11 @@ const levelExponent = 2
 // levelWeight returns r^(−2p): the inverse of the power growth over a
 // frequency ratio r.
 func levelWeight(r float64) float64 {
-	r2 := r * r
-	return 1 / (r2 * r2)
+	if levelExponent == 2 {
+		r2 := r * r
+		return 1 / (r2 * r2)
+	}
+	return math.Pow(r, -2*levelExponent)
 }
 
 // lineBand returns the band h·[fa, fb] ± lobeHz of shaft order h and
