@@ -125,7 +125,31 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 		out = append(out, *res)
 	}
 	sort.SliceStable(out, func(a, b int) bool { return out[a].ResponseStartS < out[b].ResponseStartS })
+	if len(cfg.CommandTimesS) == 0 {
+		out, warns = mergeWithinRise(out, warns, k.spanS())
+	}
 	return out, warns
+}
+
+// mergeWithinRise drops a detected step that starts, in the same
+// direction, while the step before it is still rising (within two of its
+// time constants plus the window's span) and with a like time constant
+// (within a factor of two): detection saw one transition twice, the second
+// time part-way up.
+func mergeWithinRise(out []StepResult, warns []string, spanS float64) ([]StepResult, []string) {
+	var kept []StepResult
+	for _, r := range out {
+		if m := len(kept); m > 0 {
+			q := kept[m-1]
+			ratio := r.TauS.Value / q.TauS.Value
+			if q.Direction == r.Direction && r.ResponseStartS < q.ResponseStartS+2*q.TauS.Value+spanS && ratio > 0.5 && ratio < 2 {
+				warns = append(warns, fmt.Sprintf("a change near %.2f s lies within the rise of the step at %.2f s; taken as part of it", r.ResponseStartS, q.ResponseStartS))
+				continue
+			}
+		}
+		kept = append(kept, r)
+	}
+	return kept, warns
 }
 
 // notAStep says why a detected change, once fitted, is not reported as a
