@@ -686,6 +686,9 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	if err := tk.refineMoving(ctx, tr, rc, blades, scratch); err != nil {
 		return nil, err
 	}
+	if err := tk.extendSpinUps(ctx, tr, rc, blades, scratch); err != nil {
+		return nil, err
+	}
 	despikeTrack(tr, despikeHalf)
 	if nv := tr.validCount(); nv == 0 {
 		tr.Warnings = append(tr.Warnings, "no motor found: no harmonic comb stands out of the noise")
@@ -952,6 +955,99 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 			return fmt.Errorf("analysis: tracking: %w", err)
 		}
 		i = j
+	}
+	return nil
+}
+
+// Spin-up extension (extendSpinUps).
+const (
+	// spinUpBackS is how far before a run of track samples the blade-pass
+	// line is followed back.
+	spinUpBackS = 0.3
+	// spinUpStepRel bounds the fall of the speed from one frame to the one
+	// before it, going back (a spin-up's steepest part is its start).
+	spinUpStepRel = 0.2
+	// spinUpStallS and spinUpStallRel: a line followed back that falls by
+	// less than spinUpStallRel over spinUpStallS is not a spin-up (a hum
+	// or another machine's line), and that part is left empty.
+	spinUpStallS   = 0.05
+	spinUpStallRel = 0.01
+)
+
+// extendSpinUps follows the blade-pass line back from the first sample of
+// each run that follows at least spinUpStallS without one: a rotor
+// spinning up from standstill is quiet and fast at first (tonal power
+// grows about as f⁴), so the search pass's long frames, which smear the
+// rising line over many bins, find it only late. Going back frame by
+// frame, the strongest peak of the whitened spectrum (at least refineMinZ)
+// within B·[f·(1 − spinUpStepRel), f·1.005] continues the track, f being
+// the speed found in the frame after; it stops at a frame without one, at
+// MinShaftHz, or where the line stalls (then that stalled part is left
+// empty). The peaks are QIFFT positions (whiten), ample on a moving line.
+func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
+	nf := tr.Len()
+	b := float64(max(blades, 1))
+	binHz := tk.fs / float64(rc.FFTLen)
+	natBin := binHz * float64(rc.FFTLen/rc.FrameLen)
+	back := max(1, int(spinUpBackS*tk.fs/float64(rc.Hop)))
+	stall := max(2, int(spinUpStallS*tk.fs/float64(rc.Hop)))
+	var z, pk []float32 // per frame, bins [0, nb)
+	for i0 := 1; i0 < nf; i0++ {
+		if !tr.Valid(i0) || tr.Valid(i0-1) {
+			continue
+		}
+		first := i0 - 1
+		for first > 0 && !tr.Valid(first-1) && i0-first < back {
+			first--
+		}
+		if i0-first < stall {
+			continue
+		}
+		f := tr.ShaftHz[i0]
+		nb := min(rc.Bins()-1, int(b*f*1.01/binHz)+2)
+		if need := (i0 - first) * nb; cap(z) < need {
+			z, pk = make([]float32, need), make([]float32, need)
+		}
+		x := tk.x[first*rc.Hop : (i0-1)*rc.Hop+rc.FrameLen]
+		err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
+			s := &scratch[w]
+			s.wh.whiten(s.z, s.pk, re, im)
+			copy(z[k*nb:(k+1)*nb], s.z[:nb])
+			copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
+		}, nil)
+		if err != nil {
+			return fmt.Errorf("analysis: tracking: %w", err)
+		}
+		// Walk back.
+		for i := i0 - 1; i >= first; i-- {
+			zr, pr := z[(i-first)*nb:(i-first+1)*nb], pk[(i-first)*nb:(i-first+1)*nb]
+			lo := max(1, int(math.Floor(b*f*(1-spinUpStepRel)/binHz)))
+			hi := min(nb-1, int(math.Ceil(b*f*1.005/binHz)))
+			kb := -1
+			for k := lo; k <= hi; k++ {
+				if pr[k] >= 0 && zr[k] >= refineMinZ && (kb < 0 || zr[k] > zr[kb]) {
+					kb = k
+				}
+			}
+			if kb < 0 {
+				break
+			}
+			fn := float64(pr[kb]) * binHz / b
+			if fn < tk.cfg.MinShaftHz*0.97 || fn > f*1.005 {
+				break
+			}
+			snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
+			tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
+			tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			f = fn
+			// A stalled line is not a spin-up.
+			if j := i + stall; j < i0 && tr.ShaftHz[i] > tr.ShaftHz[j]*(1-spinUpStallRel) {
+				for q := i; q <= j; q++ {
+					tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = math.NaN(), math.NaN(), 0
+				}
+				break
+			}
+		}
 	}
 	return nil
 }
