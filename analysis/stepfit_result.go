@@ -219,6 +219,13 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 			notes = append(notes, fmt.Sprintf("the rise after the onset alone gives τ = %.4g s and an onset %.1f ms %s, against %.4g s from the whole step: the track's transition does not look like the window-averaged first-order curve (a lagging or jumping tracker); the intervals cover both", math.Exp(tc.lnTau), 1e3*math.Abs(tc.t0-fit.p[parT0]), map[bool]string{true: "later", false: "earlier"}[tc.t0 > fit.p[parT0]], math.Exp(lnTau)))
 		}
 	}
+	// Two readings of one rise that disagree widely (the fit and the
+	// two-point estimate, which sees only the 28 % and 63 % crossings) mean
+	// the track's shape is not the model's; cover both.
+	if st, s0 := fit.smith[0], fit.smith[1]; smithDisagrees(st, math.Exp(lnTau), k) {
+		tauLo, tauHi = math.Min(tauLo, st), math.Max(tauHi, st)
+		t0Lo, t0Hi = math.Min(t0Lo, s0), math.Max(t0Hi, s0)
+	}
 	// A step the track shows as a jump (τ at the bottom of its range), or
 	// whose onset ran to the end of its search, could have begun any time
 	// after the command up to where the track moves.
@@ -316,8 +323,8 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if tauLo > 0 && tauHi/tauLo > 3 {
 		notes = append(notes, fmt.Sprintf("τ is poorly determined (95 %% interval %.4g–%.4g s)", tauLo, tauHi))
 	}
-	if st := fit.smith[0]; !math.IsNaN(st) && tau > 3*k.sdS() && (st > 1.6*tau || st < tau/1.6) {
-		notes = append(notes, fmt.Sprintf("the two-point estimate (Smith: 28.3 %%/63.2 %%) gives τ = %.4g s against the fitted %.4g s; check the step's shape", st, tau))
+	if st := fit.smith[0]; smithDisagrees(st, tau, k) {
+		notes = append(notes, fmt.Sprintf("the two-point estimate (Smith: 28.3 %%/63.2 %%) gives τ = %.4g s against the fitted %.4g s; check the step's shape (the intervals cover both)", st, tau))
 	}
 	if nOut > nSeen/20 {
 		notes = append(notes, fmt.Sprintf("%d of %d track samples left out of the fit as outliers", nOut, nSeen))
@@ -468,6 +475,14 @@ func tailCheck(d *stepData, fit *stepFitOut, o stepFitOpts, k *fopdtKernel, hop 
 		return nil
 	}
 	return &tailResult{t0: tf.p[parT0], lnTau: tf.p[parLnTau], hT0: math.Hypot(hT, onsetFloorS), hLnTau: math.Hypot(hL, tauFloorRel)}
+}
+
+// smithDisagrees reports whether the two-point τ differs from the fitted
+// one by more than a factor 1.6, for a step slow enough (τ above three
+// kernel sds) that the two-point reading, which ignores the window, should
+// agree.
+func smithDisagrees(st, tau float64, k *fopdtKernel) bool {
+	return !math.IsNaN(st) && st > 0 && tau > 3*k.sdS() && (st > 1.6*tau || st < tau/1.6)
 }
 
 // clampFinite limits v to [lo, hi] (NaN becomes lo).
