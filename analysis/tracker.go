@@ -148,7 +148,10 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     weight h²·SNR_h, after rejecting those far from their median (a
 //     passing whine or hum line beside a harmonic). Frames within which
 //     the speed moves by more than a bin are then estimated again from the
-//     power centroids of the spread lines (refineMoving).
+//     power centroids of the spread lines (refineMoving), and a run of
+//     samples that starts after a stretch without motor (a spin-up from
+//     standstill) is followed back on the blade-pass line
+//     (extendSpinUps).
 //  3. Checks: the comb's profile along the track tells whether another
 //     blade count fits better (a warning), corrects a clear octave error of
 //     the shaft speed (a warning), or, with Blades = 0, gives the blade
