@@ -871,6 +871,7 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 	nyq := 0.45 * fs
 	maxH := len(scratch[0].cest)
 	zPre, zPost := make([]float32, bins), make([]float32, bins)
+	lpPre, lpPost := make([]float32, bins), make([]float32, bins)
 	for i := 0; i < nf; {
 		if !mark[i] {
 			i++
@@ -886,13 +887,13 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 		// lines there, are left out of the centroids.
 		fPre, fPost := math.NaN(), math.NaN()
 		if i > 0 && ds.Valid(i-1) {
-			if err := tk.whitenFrame(ctx, rc, i-1, zPre, &scratch[0]); err != nil {
+			if err := tk.whitenFrame(ctx, rc, i-1, zPre, lpPre, &scratch[0]); err != nil {
 				return err
 			}
 			fPre = ds.ShaftHz[i-1]
 		}
 		if j < nf && ds.Valid(j) {
-			if err := tk.whitenFrame(ctx, rc, j, zPost, &scratch[0]); err != nil {
+			if err := tk.whitenFrame(ctx, rc, j, zPost, lpPost, &scratch[0]); err != nil {
 				return err
 			}
 			fPost = ds.ShaftHz[j]
@@ -923,7 +924,7 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 				}
 				m := foreignMask{pre: zPre, post: zPost, preOK: !math.IsNaN(fPre), postOK: !math.IsNaN(fPost)}
 				m.own(fPre, fPost, h, binHz, lobeBins*pad)
-				c, sdBins, mv, ok := lineCentroid(re, im, s.z, b0, b1, lobeBins*pad, &m)
+				c, sdBins, mv, ok := lineCentroid(re, im, s.z, b0, b1, lobeBins*pad, &m, levelLaw(lpPre, lpPost, fPre, fPost, h, binHz, pad))
 				if !ok {
 					continue
 				}
@@ -1055,11 +1056,13 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 	return nil
 }
 
-// whitenFrame writes the whitened spectrum of refinement frame i to dst.
-func (tk *tracker) whitenFrame(ctx context.Context, rc dsp.STFTConfig, i int, dst []float32, s *refineScratch) error {
+// whitenFrame writes the whitened spectrum of refinement frame i to dst
+// and its ln power to lnP.
+func (tk *tracker) whitenFrame(ctx context.Context, rc dsp.STFTConfig, i int, dst, lnP []float32, s *refineScratch) error {
 	x := tk.x[i*rc.Hop : i*rc.Hop+rc.FrameLen]
 	err := rc.Process(ctx, x, tk.fs, func(_, _ int, re, im []float32) {
 		s.wh.whiten(dst, s.pk, re, im)
+		copy(lnP, s.wh.lnP)
 	}, nil)
 	if err != nil {
 		return fmt.Errorf("analysis: tracking: %w", err)
@@ -1121,18 +1124,51 @@ const (
 )
 
 // levelExponent is p in the amplitude law a ∝ f^p of a rotor's tonal
-// lines (2: tonal sound pressure about ∝ the square of speed; common
-// practice, from memory).
-const levelExponent = 2
+// lines where the steady frames around a move cannot tell it (2: tonal
+// sound pressure about ∝ the square of speed; common practice, from
+// memory); maxLevelExponent bounds a measured one.
+const (
+	levelExponent    = 2
+	maxLevelExponent = 4
+)
+
+// levelLaw returns p for order h from the steady frames either side of a
+// move: the ln energy of the line at h·fPre before and h·fPost after (over
+// its main lobe, pad FFT bins per natural bin), p = Δln P / (2·ln(fPost/fPre)), within
+// [0, maxLevelExponent]; levelExponent when a side is missing or the
+// speeds differ by less than 5 %.
+func levelLaw(lpPre, lpPost []float32, fPre, fPost float64, h int, binHz float64, pad int) float64 {
+	if math.IsNaN(fPre) || math.IsNaN(fPost) || math.Abs(math.Log(fPost/fPre)) < math.Log(1.05) {
+		return levelExponent
+	}
+	// The line's energy over its main lobe, free of the scalloping of a
+	// single bin (Parseval).
+	peak := func(lp []float32, f float64) float64 {
+		c := int(math.Round(float64(h) * f / binHz))
+		if c < lobeBins*pad || c+lobeBins*pad >= len(lp) {
+			return math.NaN()
+		}
+		var e float64
+		for k := c - lobeBins*pad; k <= c+lobeBins*pad; k++ {
+			e += math.Exp(float64(lp[k]))
+		}
+		return math.Log(e)
+	}
+	a, b := peak(lpPre, fPre), peak(lpPost, fPost)
+	if math.IsNaN(a) || math.IsNaN(b) {
+		return levelExponent
+	}
+	return max(0, min(maxLevelExponent, (b-a)/(2*math.Log(fPost/fPre))))
+}
 
 // levelWeight returns r^(−2p): the inverse of the power growth over a
 // frequency ratio r.
-func levelWeight(r float64) float64 {
-	if levelExponent == 2 {
+func levelWeight(r, p float64) float64 {
+	if p == 2 {
 		r2 := r * r
 		return 1 / (r2 * r2)
 	}
-	return math.Pow(r, -2*levelExponent)
+	return math.Pow(r, -2*p)
 }
 
 // lineBand returns the band h·[fa, fb] ± lobeHz of shaft order h and
@@ -1183,7 +1219,7 @@ func lineBand(h, blades int, fa, fb, lobeHz float64) (lo, hi float64, clean bool
 // bias over ±3 bins is below 2e-4 bin (simulated here). ok is false when
 // the band's excess is below centroidMinSNR. Bins that mask marks as
 // another source's (mask may be nil) are left out.
-func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask) (c, sd float64, moved, ok bool) {
+func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask, p float64) (c, sd float64, moved, ok bool) {
 	// The floor is interpolated (in log) between the whitener's floors just
 	// outside the band, or the whitener's own where lower: a line spread
 	// over many bins lifts the block quantiles under it. The excess is
@@ -1204,8 +1240,8 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask) (c, 
 			kp = k
 		}
 	}
-	// A rotor's lines grow louder with speed, amplitude about ∝ f^p: each
-	// bin's excess is divided by that growth, so that the centroid weighs
+	// A rotor's lines grow louder with speed, amplitude about ∝ f^p
+	// (levelLaw): each bin's excess is divided by that growth, so that the centroid weighs
 	// the frame's instants by w² alone, as Track.Kernel says.
 	kc := float64(k1+k2) / 2
 	var sp, skp, sfl float64
@@ -1213,7 +1249,7 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask) (c, 
 		if mask.foreign(k) {
 			continue
 		}
-		g := levelWeight(float64(k) / kc)
+		g := levelWeight(float64(k)/kc, p)
 		fl := floor(k)
 		e := (float64(re[k])*float64(re[k]) + float64(im[k])*float64(im[k]) - fl) * g
 		sp += e
@@ -1231,7 +1267,7 @@ func lineCentroid(re, im, z []float32, k1, k2, lobe int, mask *foreignMask) (c, 
 		if mask.foreign(k) {
 			continue
 		}
-		g := levelWeight(float64(k) / kc)
+		g := levelWeight(float64(k)/kc, p)
 		fl := floor(k)
 		e := float64(re[k])*float64(re[k]) + float64(im[k])*float64(im[k]) - fl
 		vk := g * g * fl * (fl + 2*max(e, 0))

@@ -22,6 +22,7 @@ func TestTrackKernelFastSteps(t *testing.T) {
 		from, to, tau float64
 		frame         int
 		toneHz        float64 // another machine's whine at −6 dB (0 = none)
+		levelExp      float64 // the rotor's amplitude law a ∝ f^p (0 = 2)
 		maxRMS        float64 // relative RMS vs the kernel-seen truth
 	}{
 		// maxRMS: the measured figures (logged: 0.67, 1.19, 0.17, 0.11,
@@ -29,20 +30,24 @@ func TestTrackKernelFastSteps(t *testing.T) {
 		// 3.35, 2.88 and 10.6 % (measured before the centroid pass). With
 		// two blades and a 50 % step only the first blade-pass line has a
 		// clean band, hence the second case's larger figure.
-		{"up τ5 frame1024", 2, 200, 300, 0.005, 1024, 0, 0.010},
-		{"up τ10 frame2048", 2, 200, 300, 0.010, 2048, 0, 0.016},
-		{"down τ10 frame2048", 3, 300, 180, 0.010, 2048, 0, 0.008},
-		{"up τ20 frame4096", 2, 150, 220, 0.020, 4096, 0, 0.008},
-		{"down τ5 frame2048", 4, 320, 200, 0.005, 2048, 0, 0.008},
+		{"up τ5 frame1024", 2, 200, 300, 0.005, 1024, 0, 0, 0.010},
+		{"up τ10 frame2048", 2, 200, 300, 0.010, 2048, 0, 0, 0.016},
+		{"down τ10 frame2048", 3, 300, 180, 0.010, 2048, 0, 0, 0.008},
+		{"up τ20 frame4096", 2, 150, 220, 0.020, 4096, 0, 0, 0.008},
+		{"down τ5 frame2048", 4, 320, 200, 0.005, 2048, 0, 0, 0.008},
 		// A whine inside the blade-pass line's band, h·[200, 320] Hz: the
 		// steady frames either side show it, and it is left out (0.65 %;
 		// 4.5 % with it in).
-		{"down τ5 frame2048 tone", 4, 320, 200, 0.005, 2048, 1010, 0.010},
+		{"down τ5 frame2048 tone", 4, 320, 200, 0.005, 2048, 1010, 0, 0.010},
+		// Lines growing as f³ (power f⁶): the law is read from the steady
+		// frames either side (0.30 %; 2.2 % with p = 2 assumed).
+		{"down τ5 frame2048 p3", 4, 320, 200, 0.005, 2048, 0, 3, 0.008},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			traj := synth.Steps(c.from, synth.Step{CommandS: 0.6, TargetHz: c.to, TauS: c.tau})
 			sc := synth.Scene{SampleRate: 48000, DurationS: 1.2, Shaft: traj, Rotor: synth.NewRotor(c.blades, 7), SNRdB: 30, Seed: 11}
 			sc.Rotor.AMDepth = 0
+			sc.Rotor.LevelExponent = c.levelExp
 			if c.toneHz > 0 {
 				sc.ToneHz, sc.ToneDB = c.toneHz, -6
 			}
