@@ -809,7 +809,9 @@ func poolHarmonics(est, sd []float64, hs, ord []int, binHz float64) (f, sigma fl
 // samples, sampled at up to 129 points over the frame, and their spacing.
 // A peak-frequency estimate from that frame is, for a slowly varying
 // frequency, the w²-weighted mean of the instantaneous frequency
-// (reference notes, methods §1.5; checked in TestTrackKernel).
+// (reference notes, methods §1.5), and the power centroid of a line that
+// moves within the frame is that mean too (refineMoving); checked in
+// TestTrackKernel and TestTrackKernelFastSteps.
 func hannPowerKernel(n int, fs float64) ([]float64, float64) {
 	m := min(n, 128)
 	dt := float64(n) / fs / float64(m)
