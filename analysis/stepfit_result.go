@@ -128,7 +128,15 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 			cov[qa][qb] = cc.cov.At(a, b)
 		}
 	}
-	half := func(q int) float64 { return tq * math.Sqrt(cov[q][q]) }
+	// A variance that overflowed (an undetermined direction) is an
+	// unbounded interval, never a collapsed one.
+	half := func(q int) float64 {
+		v := cov[q][q]
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return math.Inf(1)
+		}
+		return tq * math.Sqrt(v)
+	}
 	// Model-error floors, added in quadrature: the noise statistics cannot
 	// see that a track is only approximately the window-averaged speed
 	// (peak picking of a line swept within one frame, reverberation
@@ -147,7 +155,7 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		if q == parT0 {
 			want = hT0
 		}
-		if h > 0 {
+		if h > 0 && !math.IsInf(h, 0) {
 			f := want / h
 			for b := 0; b < numPar; b++ {
 				cov[q][b] *= f
@@ -231,6 +239,11 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	// after the command up to where the track moves.
 	if p.hasCommand() && (lnTau <= math.Log(tauMinS)+1e-6 || p.onsetHi-fit.p[parT0] < 1e-4) {
 		t0Lo = math.Min(t0Lo, p.commandS)
+	}
+	// A jump says only that τ is below what the window resolves (about
+	// twice the kernel's sd); the curvature at the bound says nothing more.
+	if lnTau <= math.Log(tauMinS)+1e-6 {
+		tauHi = math.Max(tauHi, 2*k.sdS())
 	}
 
 	// An interval reaching past the search range says only that the data
