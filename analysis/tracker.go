@@ -888,17 +888,23 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 		// machine): bins with a line in both, away from the rotor's own
 		// lines there, are left out of the centroids.
 		fPre, fPost := math.NaN(), math.NaN()
+		conf := 1.0 // for samples the first pass left empty: the lower of its neighbours'
 		if i > 0 && ds.Valid(i-1) {
+			conf = min(conf, ds.Confidence[i-1])
 			if err := tk.whitenFrame(ctx, rc, i-1, zPre, lpPre, &scratch[0]); err != nil {
 				return err
 			}
 			fPre = ds.ShaftHz[i-1]
 		}
 		if j < nf && ds.Valid(j) {
+			conf = min(conf, ds.Confidence[j])
 			if err := tk.whitenFrame(ctx, rc, j, zPost, lpPost, &scratch[0]); err != nil {
 				return err
 			}
 			fPost = ds.ShaftHz[j]
+		}
+		if math.IsNaN(fPre) && math.IsNaN(fPost) {
+			conf = 0
 		}
 		// Frames [i, j) are samples [i·hop, (j−1)·hop + frame).
 		first := i
@@ -954,6 +960,9 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 				nc = n
 			}
 			if f, sd, ok := poolHarmonics(s.cest[:nc], s.csd[:nc], s.chs[:nc], s.ord[:nc], natBin); ok && f > fa && f < fb {
+				if !tr.Valid(i) {
+					tr.Confidence[i] = conf
+				}
 				tr.ShaftHz[i], tr.SigmaHz[i] = f, sd
 			}
 		}, nil)
