@@ -108,7 +108,7 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 			}
 			continue
 		}
-		if plans[i].hasCommand() && !plans[i].standstill && plans[i].onsetHi-res.ResponseStartS < 2*hop {
+		if plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
 			if alt := standstillAlternative(tr, &k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
 				res = alt
 			}
@@ -229,8 +229,8 @@ func planWindows(plans []stepPlan, tr *Track, k *fopdtKernel) {
 	}
 }
 
-// standstillAlternative refits a commanded rise whose onset ran to the end
-// of the dead-time search as a start from standstill seen late: before the
+// standstillAlternative refits a commanded step whose dead time came out
+// longer than half the search as a start from standstill seen late: before the
 // rotor is loud enough the tracker may follow another steady sound (a
 // second machine, hum), which looks like a plateau, and it joins the rotor
 // only where the rising speed crosses that sound's line. The refit holds
@@ -238,7 +238,8 @@ func planWindows(plans []stepPlan, tr *Track, k *fopdtKernel) {
 // the same curve from any point on, so the onset follows from where and
 // how steeply the visible part rises). It returns nil when that does not
 // explain the track better: the onset must then lie well inside the
-// search and the fit must describe the rise. The line before may lie above
+// search, at most half as late as the first fit's, and the fit must
+// describe the rise. The line before may lie above
 // the rotor's (then the first fit even calls the step a fall).
 func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, res *StepResult, cfg StepConfig, stepNo uint64) *StepResult {
 	q := p
@@ -252,10 +253,10 @@ func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, r
 	if err != nil || alt.DeadTimeS == nil || alt.R2 < detectMinR2 || alt.DeltaRPM.Value <= 0 {
 		return nil
 	}
-	if th := alt.DeadTimeS.Value; th >= 0.9*(p.onsetHi-p.commandS) {
+	if th := alt.DeadTimeS.Value; th >= 0.9*(p.onsetHi-p.commandS) || th > res.DeadTimeS.Value/2 {
 		return nil
 	}
-	alt.Warnings = append(alt.Warnings, fmt.Sprintf("taken as a start from standstill: the track holds %.0f rpm until %.3f s, longer than any dead time searched, and then rises as a spin-up from 0 rpm would; the steady line before is taken as another sound the tracker followed while the rotor stood still", res.RPMBefore.Value, res.ResponseStartS))
+	alt.Warnings = append(alt.Warnings, fmt.Sprintf("taken as a start from standstill: the track holds %.0f rpm until %.3f s, later than a motor answers, and then rises as a spin-up from 0 rpm would; the steady line before is taken as another sound the tracker followed while the rotor stood still", res.RPMBefore.Value, res.ResponseStartS))
 	return alt
 }
 

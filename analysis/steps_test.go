@@ -166,35 +166,36 @@ func TestResultsAreFinite(t *testing.T) {
 
 func TestStandstillBehindAnotherLine(t *testing.T) {
 	// A spin-up from 0 at a given command time, but while the rotor is
-	// quiet the tracker follows a steady sound at 250 Hz and joins the
-	// rotor only where its speed passes that line, 0.18 s after the
-	// command (invented track). The step must come out as a spin-up from 0
-	// with the right τ and θ, not as a step from 250 Hz whose dead time
-	// runs to the end of the search.
-	spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.4, startHz: 0, noiseHz: 0.3, standstillUntilS: 0.305,
-		steps: []synthStep{{commandS: 0.3, deadS: 0.005, tauS: 0.12, toHz: 320}}}
-	tr := spec.track(rand.New(rand.NewPCG(12, 12)))
-	rng := rand.New(rand.NewPCG(13, 13))
-	const lineHz = 250
-	for i, ts := range tr.TimeS {
-		if math.IsNaN(tr.ShaftHz[i]) || spec.trueHz(ts) < lineHz {
-			tr.ShaftHz[i] = lineHz + 0.2*rng.NormFloat64()
+	// quiet the tracker follows a steady sound and joins the rotor only
+	// where its speed passes that line: 76 ms after the command for a line
+	// at 150 Hz, 182 ms (past the dead-time search) at 250 Hz (invented
+	// track). The step must come out as a spin-up from 0 with the right τ
+	// and θ, not as a step from the line with a long dead time.
+	for _, lineHz := range []float64{150, 250} {
+		spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.4, startHz: 0, noiseHz: 0.3, standstillUntilS: 0.305,
+			steps: []synthStep{{commandS: 0.3, deadS: 0.005, tauS: 0.12, toHz: 320}}}
+		tr := spec.track(rand.New(rand.NewPCG(12, 12)))
+		rng := rand.New(rand.NewPCG(13, 13))
+		for i, ts := range tr.TimeS {
+			if math.IsNaN(tr.ShaftHz[i]) || spec.trueHz(ts) < lineHz {
+				tr.ShaftHz[i] = lineHz + 0.2*rng.NormFloat64()
+			}
 		}
-	}
-	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.3}, Bootstrap: -1})
-	if len(res) != 1 {
-		t.Fatalf("%d steps, want 1", len(res))
-	}
-	r := res[0]
-	t.Logf("τ %.4f s [%.4f, %.4f], θ %.4f s [%.4f, %.4f], rpm %.0f → %.0f, warnings %q", r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1],
-		r.DeadTimeS.Value, r.DeadTimeS.CI95[0], r.DeadTimeS.CI95[1], r.RPMBefore.Value, r.RPMAfter.Value, r.Warnings)
-	if r.RPMBefore.Value != 0 || !hasWarning(r.Warnings, "standstill") {
-		t.Errorf("rpm before %.0f, warnings %q; want 0 and a standstill warning", r.RPMBefore.Value, r.Warnings)
-	}
-	// τ within 10 % and θ within 5 ms of the invented truth (0.12 s,
-	// 5 ms): the visible rise starts at 78 % of the change.
-	if math.Abs(r.TauS.Value/0.12-1) > 0.1 || math.Abs(r.DeadTimeS.Value-0.005) > 0.005 {
-		t.Errorf("τ %.4f s, θ %.4f s; want 0.12 s ± 10 %%, 0.005 ± 0.005 s", r.TauS.Value, r.DeadTimeS.Value)
+		res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{0.3}, Bootstrap: -1})
+		if len(res) != 1 {
+			t.Fatalf("line %.0f Hz: %d steps, want 1", lineHz, len(res))
+		}
+		r := res[0]
+		t.Logf("line %.0f Hz: τ %.4f s [%.4f, %.4f], θ %.4f s [%.4f, %.4f], rpm %.0f → %.0f", lineHz, r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1],
+			r.DeadTimeS.Value, r.DeadTimeS.CI95[0], r.DeadTimeS.CI95[1], r.RPMBefore.Value, r.RPMAfter.Value)
+		if r.RPMBefore.Value != 0 || !hasWarning(r.Warnings, "standstill") {
+			t.Errorf("line %.0f Hz: rpm before %.0f, warnings %q; want 0 and a standstill warning", lineHz, r.RPMBefore.Value, r.Warnings)
+		}
+		// τ within 10 % and θ within 5 ms of the invented truth (0.12 s,
+		// 5 ms).
+		if math.Abs(r.TauS.Value/0.12-1) > 0.1 || math.Abs(r.DeadTimeS.Value-0.005) > 0.005 {
+			t.Errorf("line %.0f Hz: τ %.4f s, θ %.4f s; want 0.12 s ± 10 %%, 0.005 ± 0.005 s", lineHz, r.TauS.Value, r.DeadTimeS.Value)
+		}
 	}
 }
 
