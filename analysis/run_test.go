@@ -71,3 +71,34 @@ func TestRunInterval(t *testing.T) {
 		t.Error("an empty interval must be refused")
 	}
 }
+
+// TestRunDemoDetected finds the demo's four steps with no command times and
+// fits each within 5 % of its true τ (self-consistency with assets.Demo).
+// Regression: a down step detected twice once cut its own fit stretch to
+// the duplicate's start, giving τ 80 ± 80 ms for a true 55 ms.
+func TestRunDemoDetected(t *testing.T) {
+	a, err := dsp.Decode("demo.wav", assets.DemoWAV)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cfg := Config{Blades: assets.Demo.Blades}
+	cfg.Steps.Bootstrap = -1
+	rep, err := Run(context.Background(), a, cfg, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rep.Steps) != len(assets.Demo.Steps) {
+		t.Fatalf("found %d steps, want %d", len(rep.Steps), len(assets.Demo.Steps))
+	}
+	for i, want := range assets.Demo.Steps {
+		got := rep.Steps[i]
+		e := math.Abs(got.TauS.Value-want.TauS) / want.TauS
+		t.Logf("step %d: τ %.2f ms (95 %% %.2f…%.2f), true %.1f ms", i+1, 1e3*got.TauS.Value, 1e3*got.TauS.CI95[0], 1e3*got.TauS.CI95[1], 1e3*want.TauS)
+		if e > 0.05 {
+			t.Errorf("step %d: τ %.2f ms, want %.1f ms ± 5 %%", i+1, 1e3*got.TauS.Value, 1e3*want.TauS)
+		}
+		if w := got.TauS.CI95[1] - got.TauS.CI95[0]; w > 0.2*want.TauS {
+			t.Errorf("step %d: τ interval %.1f ms wide, want under 20 %% of τ on a clean settled step", i+1, 1e3*w)
+		}
+	}
+}

@@ -99,9 +99,45 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 		}
 	}
 
+	out, from, fitWarns := fitPlans(tr, &k, hop, plans, cfg)
+	if len(cfg.CommandTimesS) == 0 {
+		// A transition detected twice is kept once; the surviving step is
+		// then fitted again, since the duplicate had cut its fit stretch.
+		drop, mergeWarns := mergeWithinRise(out, from, k.spanS())
+		if len(drop) > 0 {
+			var kept []stepPlan
+			for i, p := range plans {
+				if !drop[i] {
+					kept = append(kept, p)
+				}
+			}
+			plans = kept
+			planWindows(plans, tr, &k)
+			limitDetectedWindows(plans)
+			out, from, fitWarns = fitPlans(tr, &k, hop, plans, cfg)
+			drop, _ = mergeWithinRise(out, from, k.spanS())
+			var final []StepResult
+			for j := range out {
+				if !drop[from[j]] {
+					final = append(final, out[j])
+				}
+			}
+			out = final
+		}
+		warns = append(warns, mergeWarns...)
+	}
+	return out, append(warns, fitWarns...)
+}
+
+// fitPlans fits every plan and returns the results in time order, the plan
+// each came from, and the warnings about plans not fitted or not taken as
+// steps.
+func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg StepConfig) ([]StepResult, []int, []string) {
+	var warns []string
 	var out []StepResult
+	var from []int
 	for i := range plans {
-		res, err := fitPlan(tr, &k, hop, &plans[i], cfg, uint64(i))
+		res, err := fitPlan(tr, k, hop, &plans[i], cfg, uint64(i))
 		if err != nil {
 			if plans[i].hasCommand() {
 				warns = append(warns, fmt.Sprintf("step at %.3f s not fitted: %v", plans[i].anchor(), err))
@@ -109,7 +145,7 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 			continue
 		}
 		if plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
-			if alt := standstillAlternative(tr, &k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
+			if alt := standstillAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
 				res = alt
 			}
 		}
@@ -123,12 +159,19 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 			}
 		}
 		out = append(out, *res)
+		from = append(from, i)
 	}
-	sort.SliceStable(out, func(a, b int) bool { return out[a].ResponseStartS < out[b].ResponseStartS })
-	if len(cfg.CommandTimesS) == 0 {
-		out, warns = mergeWithinRise(out, warns, k.spanS())
+	order := make([]int, len(out))
+	for j := range order {
+		order[j] = j
 	}
-	return out, warns
+	sort.SliceStable(order, func(a, b int) bool { return out[order[a]].ResponseStartS < out[order[b]].ResponseStartS })
+	sorted := make([]StepResult, len(out))
+	sortedFrom := make([]int, len(out))
+	for j, o := range order {
+		sorted[j], sortedFrom[j] = out[o], from[o]
+	}
+	return sorted, sortedFrom, warns
 }
 
 // mergeWithinRise drops a detected step that starts, in the same
@@ -136,20 +179,24 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 // time constants plus the window's span) and with a like time constant
 // (within a factor of two): detection saw one transition twice, the second
 // time part-way up.
-func mergeWithinRise(out []StepResult, warns []string, spanS float64) ([]StepResult, []string) {
-	var kept []StepResult
-	for _, r := range out {
-		if m := len(kept); m > 0 {
-			q := kept[m-1]
+func mergeWithinRise(out []StepResult, from []int, spanS float64) (drop map[int]bool, warns []string) {
+	last := -1 // the last step kept
+	for j, r := range out {
+		if last >= 0 {
+			q := out[last]
 			ratio := r.TauS.Value / q.TauS.Value
 			if q.Direction == r.Direction && r.ResponseStartS < q.ResponseStartS+2*q.TauS.Value+spanS && ratio > 0.5 && ratio < 2 {
+				if drop == nil {
+					drop = map[int]bool{}
+				}
+				drop[from[j]] = true
 				warns = append(warns, fmt.Sprintf("a change near %.2f s lies within the rise of the step at %.2f s; taken as part of it", r.ResponseStartS, q.ResponseStartS))
 				continue
 			}
 		}
-		kept = append(kept, r)
+		last = j
 	}
-	return kept, warns
+	return drop, warns
 }
 
 // notAStep says why a detected change, once fitted, is not reported as a

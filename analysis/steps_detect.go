@@ -251,19 +251,23 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		merged = append(merged, p)
 	}
 	planWindows(merged, tr, k)
-	// Judge each detected change on the stretch its own transition needs:
-	// fifteen time constants estimated from its 10–90 % time (τ ≈ that
-	// time / ln 9), at least minPostWindowS, so that later trouble in the
-	// track does not decide whether it is a step.
-	for i := range merged {
-		p := &merged[i]
+	limitDetectedWindows(merged)
+	return merged, warns
+}
+
+// limitDetectedWindows judges each detected change on the stretch its own
+// transition needs: fifteen time constants estimated from its 10–90 % time
+// (τ ≈ that time / ln 9), at least minPostWindowS, so that later trouble in
+// the track does not decide whether it is a step.
+func limitDetectedWindows(plans []stepPlan) {
+	for i := range plans {
+		p := &plans[i]
 		if p.standstill || !(p.t90 > p.onsetLo) {
 			continue
 		}
 		tauEst := (p.t90 - p.onsetLo) / math.Log(9)
 		p.toS = math.Min(p.toS, p.onsetHi+math.Max(minPostWindowS, 15*tauEst))
 	}
-	return merged, warns
 }
 
 // persistentChange reports whether the change at c lasts: the levels 0.1 to

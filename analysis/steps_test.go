@@ -217,9 +217,18 @@ func TestMergeWithinRise(t *testing.T) {
 		{"unlike time constant", []StepResult{mk(1.0, 0.2, Up), mk(1.3, 0.012, Up)}, 2},
 	}
 	for _, c := range cases {
-		got, _ := mergeWithinRise(c.in, nil, 0.04)
-		if len(got) != c.want {
-			t.Errorf("%s: %d steps, want %d", c.name, len(got), c.want)
+		from := make([]int, len(c.in))
+		for i := range from {
+			from[i] = 10 + i // plan indices need not equal result indices
+		}
+		drop, _ := mergeWithinRise(c.in, from, 0.04)
+		if got := len(c.in) - len(drop); got != c.want {
+			t.Errorf("%s: %d steps kept, want %d", c.name, got, c.want)
+		}
+		for p := range drop {
+			if p < 10 || p >= 10+len(c.in) {
+				t.Errorf("%s: dropped plan %d, not one of the inputs' plans", c.name, p)
+			}
 		}
 	}
 }
