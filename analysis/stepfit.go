@@ -244,22 +244,7 @@ func fitFOPDT(d *stepData, o stepFitOpts) (*stepFitOut, error) {
 		}
 	}
 
-	lower := []float64{}
-	upper := []float64{}
-	for _, q := range free {
-		lo, hi := math.Inf(-1), math.Inf(1)
-		switch q {
-		case parT0:
-			lo, hi = o.t0Lo-d.hop, o.t0Hi+d.hop
-			if !math.IsNaN(o.commandS) {
-				lo = o.commandS
-			}
-		case parLnTau:
-			lo, hi = math.Log(tauMinS), math.Log(tauMaxS)
-		}
-		lower = append(lower, lo)
-		upper = append(upper, hi)
-	}
+	lower, upper := fitBounds(d, o, free)
 
 	bestRSS := math.Inf(1)
 	for _, s := range starts {

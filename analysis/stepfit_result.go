@@ -530,7 +530,9 @@ const (
 	onsetFloorS = 0.001
 )
 
-// fitBounds mirrors the bounds fitFOPDT gives Levenberg–Marquardt.
+// fitBounds returns the bounds Levenberg–Marquardt keeps the free
+// parameters in: the onset within its search range (not before the command),
+// τ within the search range.
 func fitBounds(d *stepData, o stepFitOpts, free []int) (lower, upper []float64) {
 	for _, q := range free {
 		lo, hi := math.Inf(-1), math.Inf(1)
