@@ -224,7 +224,7 @@ func (p *comparePanel) refresh() {
 			}
 			if o.err == nil {
 				var rep *analysis.Report
-				rep, o.err = analysis.Run(ctx, a, cfg, stageProgress(func(f float64) {
+				rep, o.err = analysis.Run(ctx, a, forRecording(cfg, r.Path), stageProgress(func(f float64) {
 					progress((float64(i) + f) / float64(len(todo)))
 				}))
 				if rep != nil {

@@ -212,6 +212,17 @@ func labelFor(path string) string {
 	return b[:len(b)-len(filepath.Ext(b))]
 }
 
+// forRecording adapts the configuration to the recording at path: the
+// demo's propeller is known, so with the blade count left on auto the demo
+// (path "") is analysed as what it is, as a user who knows the propeller
+// would.
+func forRecording(cfg analysis.Config, path string) analysis.Config {
+	if path == "" && cfg.Blades == 0 {
+		cfg.Blades, cfg.Track.Blades = assets.Demo.Blades, assets.Demo.Blades
+	}
+	return cfg
+}
+
 // decode reads a recording from disk, or the demo when path is empty.
 func decode(path string) (*dsp.Audio, error) {
 	if path == "" {
@@ -238,14 +249,8 @@ func (w *Window) analyse(keepView bool) {
 	if rec == nil {
 		return
 	}
-	cfg := w.settings.Config(w.marks.Times())
+	cfg := forRecording(w.settings.Config(w.marks.Times()), rec.Path)
 	path := rec.Path
-	if path == "" && cfg.Blades == 0 {
-		// The demo's propeller is known: with the blade count left on auto
-		// it is analysed as what it is, as a user who knows the propeller
-		// would.
-		cfg.Blades, cfg.Track.Blades = assets.Demo.Blades, assets.Demo.Blades
-	}
 	audio := rec.Audio
 	w.status.SetText("Analysing " + rec.name() + " …")
 	w.progress.Set(0)
