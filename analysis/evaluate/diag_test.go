@@ -30,23 +30,9 @@ func TestSweepDiagnostics(t *testing.T) {
 	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
 	opts := synth.DefaultRandomOptions()
 	for i := range *evalN {
-		c := synth.RandomScene(rng, opts)
-		chans, err := c.Render()
-		if err != nil {
-			t.Fatalf("case %d: render: %v", i, err)
-		}
-		a, err := decodeCase(t, i, c, chans)
-		if err != nil {
-			t.Errorf("case %d: decode: %v", i, err)
+		c, a, cfg, cmds, ok := nextCase(t, i, rng, opts)
+		if !ok {
 			continue
-		}
-		cfg := analysis.Config{Blades: c.Truth.Blades}
-		if c.Truth.TriggerChannel >= 0 {
-			cfg.Channel = 1
-		}
-		var cmds []float64
-		for _, st := range c.Truth.Steps {
-			cmds = append(cmds, st.CommandS)
 		}
 		t.Logf("case %d %s", i, c.String())
 		var tc int

@@ -68,6 +68,31 @@ func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audi
 	return dsp.Decode(fmt.Sprintf("case%02d.wav", i), b)
 }
 
+// nextCase draws case i, renders it in its file format, decodes it and
+// returns it with the analysis configuration (the true blade count, the
+// first microphone when a trigger channel is present) and the true command
+// times. ok is false when the case could not be decoded (reported).
+func nextCase(t *testing.T, i int, rng *rand.Rand, opts *synth.RandomOptions) (c synth.Case, a *dsp.Audio, cfg analysis.Config, cmds []float64, ok bool) {
+	t.Helper()
+	c = synth.RandomScene(rng, opts)
+	chans, err := c.Render()
+	if err != nil {
+		t.Fatalf("case %d: render: %v", i, err)
+	}
+	if a, err = decodeCase(t, i, c, chans); err != nil {
+		t.Errorf("case %d (%s): decode: %v", i, c.Format, err)
+		return c, nil, cfg, nil, false
+	}
+	cfg = analysis.Config{Blades: c.Truth.Blades}
+	if c.Truth.TriggerChannel >= 0 {
+		cfg.Channel = 1 // the first microphone; the trigger is not mixed in
+	}
+	for _, st := range c.Truth.Steps {
+		cmds = append(cmds, st.CommandS)
+	}
+	return c, a, cfg, cmds, true
+}
+
 // score matches true steps with reported ones: same direction, reported
 // response start within 60 ms of the true one (θ and τ shift the visible
 // start, so the window is generous but far shorter than the 0.25 s
@@ -145,23 +170,9 @@ func TestSweep(t *testing.T) {
 	var found, total, falseSteps, covTau, covTheta, nTheta int
 	var foundDet, falseDet int
 	for i := range *evalN {
-		c := synth.RandomScene(rng, opts)
-		chans, err := c.Render()
-		if err != nil {
-			t.Fatalf("case %d: render: %v", i, err)
-		}
-		a, err := decodeCase(t, i, c, chans)
-		if err != nil {
-			t.Errorf("case %d (%s): decode: %v", i, c.Format, err)
+		c, a, cfg, cmds, ok := nextCase(t, i, rng, opts)
+		if !ok {
 			continue
-		}
-		cfg := analysis.Config{Blades: c.Truth.Blades}
-		if c.Truth.TriggerChannel >= 0 {
-			cfg.Channel = 1 // the first microphone; the trigger is not mixed in
-		}
-		cmds := make([]float64, len(c.Truth.Steps))
-		for k, st := range c.Truth.Steps {
-			cmds[k] = st.CommandS
 		}
 		// With command times.
 		cfg.CommandTimesS = cmds
