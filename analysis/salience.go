@@ -85,6 +85,18 @@ type combTable struct {
 	// the comb is the shaft comb, blades ≤ 1, or out of range), shaftInv
 	// its tolerance.
 	shaftPos, shaftInv []float32
+	// reach[k] is the highest position (bins) read by the combs of
+	// candidates 0..k, the shaft line's included.
+	reach []float32
+}
+
+// readLimit returns the number of low bins that the salience of candidates
+// below khi reads (whitenBelow's limit for them).
+func (t *combTable) readLimit(khi int) int {
+	if khi <= 0 {
+		return 0
+	}
+	return int(t.reach[khi-1]+0.5) + 2
 }
 
 // matchTolerance returns σ, in bins, for a harmonic at position x bins: the
@@ -148,7 +160,8 @@ func newCandidateGrid(lo, hi, rel float64) []float64 {
 func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTable {
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
 		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)),
-		shaftPos: make([]float32, len(f0)), shaftInv: make([]float32, len(f0))}
+		shaftPos: make([]float32, len(f0)), shaftInv: make([]float32, len(f0)),
+		reach: make([]float32, len(f0))}
 	if len(f0) > 1 {
 		t.logStep = math.Log(f0[1] / f0[0])
 	}
@@ -176,6 +189,13 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 			sg := matchTolerance(x)
 			t.shaftPos[k], t.shaftInv[k] = float32(x), float32(1/(4*sg*sg))
 		}
+		if k > 0 {
+			t.reach[k] = t.reach[k-1]
+		}
+		for _, x := range t.pos[t.start[k]:] {
+			t.reach[k] = max(t.reach[k], x)
+		}
+		t.reach[k] = max(t.reach[k], t.shaftPos[k])
 	}
 	t.start[len(f0)] = int32(len(t.pos))
 	return t
@@ -265,19 +285,37 @@ func (w *whitener) layout(n int) {
 // its position refined by a parabola through ln P (QIFFT, J. O. Smith and
 // X. Serra 1987; ample for matching comb positions), and −1 elsewhere. re,
 // im, z and pk have the same length.
-func (w *whitener) whiten(z, pk, re, im []float32) {
+func (w *whitener) whiten(z, pk, re, im []float32) { w.whitenBelow(z, pk, re, im, len(re)) }
+
+// whitenBelow is whiten for the bins below limit only: z and pk are written
+// for k < limit (the rest is left as it was) and agree there with whiten's
+// exactly, since the floor blocks are laid out over the whole frame and
+// every block that bins below limit depend on is estimated. Passes that
+// look only at the low lines of a comb save the rest of the work.
+func (w *whitener) whitenBelow(z, pk, re, im []float32, limit int) {
 	n := len(re)
 	w.layout(n)
 	if cap(w.lnP) < n {
 		w.lnP = make([]float32, n)
 	}
 	w.lnP = w.lnP[:n]
+	limit = max(0, min(limit, n))
+	// Blocks [0, nb) cover every bin below limit and the block after the
+	// one holding limit−1, which the interpolation reaches into.
+	nb := len(w.centre)
+	if limit < n {
+		b := 0
+		for b < len(w.centre) && int(w.edges[b+1]) <= limit {
+			b++
+		}
+		nb = min(len(w.centre), b+2)
+	}
+	hiBin := int(w.edges[nb])
 	const tiny = 1e-30
-	for k := range re {
+	for k := range hiBin {
 		w.lnP[k] = float32(math.Log(float64(re[k]*re[k]+im[k]*im[k]) + tiny))
 	}
 	lnScale := float32(math.Log(float64(floorScale)))
-	nb := len(w.centre)
 	for b := 0; b < nb; b++ {
 		lo, hi := int(w.edges[b]), int(w.edges[b+1])
 		blk := w.blk[:hi-lo]
@@ -286,8 +324,14 @@ func (w *whitener) whiten(z, pk, re, im []float32) {
 		w.lnFloor[b] = selectK(blk, q) + lnScale
 	}
 	// Interpolate the block floors linearly (in log) between block centres.
+	// With all blocks the last one's floor holds to the end; with fewer,
+	// the bins below limit all lie before the last centre taken.
 	b := 0
-	for k := range z {
+	zn := n
+	if nb < len(w.centre) {
+		zn = min(n, limit)
+	}
+	for k := range zn {
 		x := float32(k) + 0.5
 		for b+1 < nb && w.centre[b+1] < x {
 			b++
@@ -308,7 +352,7 @@ func (w *whitener) whiten(z, pk, re, im []float32) {
 		return
 	}
 	pk[0], pk[n-1] = -1, -1
-	for k := 1; k < n-1; k++ {
+	for k := 1; k < min(zn, n-1); k++ {
 		a, b, c := w.lnP[k-1], w.lnP[k], w.lnP[k+1]
 		if !(b > a && b >= c) || z[k] <= 0 {
 			pk[k] = -1

@@ -280,7 +280,15 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		scratch[w].z = make([]float32, bins)
 		scratch[w].pk = make([]float32, bins)
 	}
-	total := T + 2*T*sc.Hop/max(1, int(math.Round(refineHopS*fs)))
+	// Progress counts frames: this search pass, the refinement (about
+	// twice its frames at the output hop, with the second pass over moving
+	// frames) and, for the blade-count reading pass, the tracking run after
+	// it too (whose search pass is as long as this one).
+	outFrames := T * sc.Hop / max(1, int(math.Round(refineHopS*fs)))
+	total := tk.done + T + 2*outFrames
+	if blades == 0 {
+		total = T + outFrames/profileEvery + T + 2*outFrames
+	}
 	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
 		s := &scratch[w]
 		s.wh.whiten(s.z, s.pk, re, im)
@@ -520,6 +528,13 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	if rc.Hop == 0 {
 		rc.Hop = max(1, min(rc.FrameLen/4, int(math.Round(refineHopS*fs))))
 	}
+	every := profileEvery
+	if blades == 0 {
+		// Only the comb profile of this pass is used: take just the frames
+		// that enter it (every profileEvery-th of the output hop).
+		rc.Hop *= every
+		every = 1
+	}
 	rc = rc.Resolve(fs)
 	if rc.FrameLen > len(tk.x) {
 		return nil, fmt.Errorf("analysis: frame of %d samples is longer than the recording (%d)", rc.FrameLen, len(tk.x))
@@ -578,7 +593,15 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 			}
 		}
 		klo, khi = max(0, klo-margin), min(K, khi+margin+1)
-		s.wh.whiten(s.z, s.pk, re, im)
+		// Whiten only the bins this frame reads: the combs of the
+		// candidates, the harmonics refined (or the profile's orders) of
+		// the fastest of them with room for the estimate to move.
+		orders := maxH
+		if i%every == 0 {
+			orders = max(orders, profileLen/profileDiv)
+		}
+		lim := min(bins, max(comb.readLimit(khi), int(float64(orders)*tk.grid[khi-1]*1.06/binHz)+pad+2))
+		s.wh.whitenBelow(s.z, s.pk, re, im, lim)
 		comb.salience(s.sal[:khi-klo], s.z, s.pk, klo, khi)
 		kb := klo
 		for k := klo; k < khi; k++ {
@@ -602,7 +625,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 				break
 			}
 			j := int(math.Round(fp / binHz))
-			if j-pad < 1 || j+pad >= bins-1 {
+			if j-pad < 1 || j+pad >= lim-1 {
 				break
 			}
 			// Highest bin within a natural bin of the prediction.
@@ -650,13 +673,13 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		// Comb profile: the line level matched at each lattice position,
 		// from 3 bins and profileMinHz up (below, the floor is unreliable),
 		// on every profileEvery-th frame (it is an average).
-		if i%profileEvery != 0 {
+		if i%every != 0 {
 			return
 		}
 		lowest := max(3*binHz, profileMinHz)
 		for q := 1; q < profileLen; q++ {
 			x := float64(q) / profileDiv * f
-			if x > nyq || int(x/binHz+0.5)+1 >= bins {
+			if x > nyq || int(x/binHz+0.5)+1 >= lim {
 				break
 			}
 			if x < lowest {
@@ -685,6 +708,10 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		if tk.profN[q] > 0 {
 			tk.prof[q] /= float64(tk.profN[q])
 		}
+	}
+	if blades == 0 {
+		// The reading pass: its profile is all that is used.
+		return tr, nil
 	}
 	if err := tk.refineMoving(ctx, tr, rc, blades, scratch); err != nil {
 		return nil, err

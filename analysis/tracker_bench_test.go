@@ -106,3 +106,27 @@ func TestWhitenNoiseStatistics(t *testing.T) {
 		t.Errorf("noise statistics mean %.3f sd %.3f do not match emptyCost %.2f / noiseSD %.2f", mean, sd, emptyCost, noiseSD)
 	}
 }
+
+// whitenBelow must agree exactly with whiten below its limit, for any limit.
+func TestWhitenBelowAgrees(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 9))
+	for _, n := range []int{129, 513, 2049} {
+		re, im := make([]float32, n), make([]float32, n)
+		for k := range re {
+			a := float32(1 + 50*rng.Float64()*rng.Float64())
+			re[k], im[k] = a*float32(rng.NormFloat64()), a*float32(rng.NormFloat64())
+		}
+		var full, part whitener
+		z, pk := make([]float32, n), make([]float32, n)
+		full.whiten(z, pk, re, im)
+		for _, limit := range []int{0, 1, 7, 8, 9, 33, n / 3, n/2 + 1, n - 9, n - 1, n} {
+			z2, pk2 := make([]float32, n), make([]float32, n)
+			part.whitenBelow(z2, pk2, re, im, limit)
+			for k := range min(limit, n-1) {
+				if z2[k] != z[k] || pk2[k] != pk[k] {
+					t.Fatalf("n %d limit %d: bin %d z %g pk %g, whiten gives %g %g", n, limit, k, z2[k], pk2[k], z[k], pk[k])
+				}
+			}
+		}
+	}
+}
