@@ -289,9 +289,10 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	if blades == 0 {
 		total = T + outFrames/profileEvery + T + 2*outFrames
 	}
+	lim := comb.readLimit(K) // the bins the combs read
 	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
 		s := &scratch[w]
-		s.wh.whiten(s.z, s.pk, re, im)
+		s.wh.whitenBelow(s.z, s.pk, re, im, lim)
 		comb.salience(sal[i*K:(i+1)*K], s.z, s.pk, 0, K)
 		if red != nil {
 			red.Frame(w, i, re, im)
@@ -1053,7 +1054,7 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 		x := tk.x[first*rc.Hop : (i0-1)*rc.Hop+rc.FrameLen]
 		err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
 			s := &scratch[w]
-			s.wh.whiten(s.z, s.pk, re, im)
+			s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
 			copy(z[k*nb:(k+1)*nb], s.z[:nb])
 			copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
 		}, nil)
