@@ -2,7 +2,9 @@ package analysis
 
 import (
 	"context"
+	"errors"
 	"fmt"
+	"math"
 
 	"whirlfit/dsp"
 )
@@ -28,6 +30,46 @@ type Config struct {
 	Steps StepConfig
 }
 
+// MinIntervalS is the shortest interval Run fits steps in: room for one
+// step's fit window, the track before the onset and the shortest stretch
+// after it.
+const MinIntervalS = preWindowS + minPostWindowS
+
+// intervalSlackS forgives the rounding of decimal input (1.42 − 1 is a
+// little less than 0.42 in binary).
+const intervalSlackS = 1e-9
+
+// ErrInterval is wrapped by the errors CheckInterval (and so Run) returns
+// for an interval that cannot be analysed.
+var ErrInterval = errors.New("analysis: not a usable interval")
+
+// CheckInterval reports whether fromS–toS (seconds; toS 0 means the end) is
+// an interval Run can look for steps in on a recording of durationS
+// seconds: it must lie inside the recording, start before it ends and be at
+// least MinIntervalS long. The error wraps ErrInterval and says why.
+func CheckInterval(fromS, toS, durationS float64) error {
+	end := toS
+	if end == 0 {
+		end = durationS
+	}
+	bad := func(why string) error {
+		return fmt.Errorf("%w: %g–%g s %s", ErrInterval, fromS, end, why)
+	}
+	switch {
+	case math.IsNaN(fromS) || math.IsNaN(toS) || math.IsInf(fromS, 0) || math.IsInf(toS, 0):
+		return bad("is not a pair of numbers")
+	case fromS < 0 || toS < 0:
+		return bad("starts before the recording (times are from 0 s)")
+	case durationS > 0 && (fromS >= durationS || end > durationS):
+		return bad(fmt.Sprintf("reaches outside the recording (0–%g s)", durationS))
+	case end <= fromS:
+		return bad("ends before it starts")
+	case end-fromS < MinIntervalS-intervalSlackS:
+		return bad(fmt.Sprintf("is shorter than %g s, the least one step's fit needs", MinIntervalS))
+	}
+	return nil
+}
+
 // Progress reports how far a long stage has come. stage names it ("track",
 // "fit"); done of total units are finished. It may be nil and is called from
 // worker goroutines.
@@ -46,6 +88,12 @@ func Run(ctx context.Context, a *dsp.Audio, cfg Config, progress Progress) (*Rep
 		return nil, err
 	}
 	rep := &Report{Blades: cfg.Blades, SampleRateHz: float64(a.SampleRate), DurationS: a.DurationS(), Config: cfg}
+	if cfg.FromS != 0 || cfg.ToS != 0 {
+		// Before the long tracking stage, so that a bad interval fails fast.
+		if err := CheckInterval(cfg.FromS, cfg.ToS, rep.DurationS); err != nil {
+			return nil, err
+		}
+	}
 	rep.Warnings = append(rep.Warnings, a.Warnings...)
 	if a.NonFinite > 0 {
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("%d NaN or infinite samples were replaced by 0", a.NonFinite))
@@ -97,10 +145,7 @@ func Run(ctx context.Context, a *dsp.Audio, cfg Config, progress Progress) (*Rep
 		return nil, fmt.Errorf("analysis: cancelled: %w", err)
 	}
 	fitOn := tr
-	if cfg.FromS > 0 || cfg.ToS > 0 {
-		if cfg.ToS > 0 && cfg.ToS <= cfg.FromS {
-			return nil, fmt.Errorf("analysis: interval %g–%g s is empty", cfg.FromS, cfg.ToS)
-		}
+	if cfg.FromS != 0 || cfg.ToS != 0 {
 		fitOn = tr.Between(cfg.FromS, cfg.ToS)
 		var inside []float64
 		for _, c := range steps.CommandTimesS {

@@ -2,6 +2,7 @@ package analysis
 
 import (
 	"context"
+	"errors"
 	"math"
 	"testing"
 
@@ -100,5 +101,39 @@ func TestRunDemoDetected(t *testing.T) {
 		if w := got.TauS.CI95[1] - got.TauS.CI95[0]; w > 0.2*want.TauS {
 			t.Errorf("step %d: τ interval %.1f ms wide, want under 20 %% of τ on a clean settled step", i+1, 1e3*w)
 		}
+	}
+}
+
+// TestCheckInterval: the intervals Run refuses, on a 9 s recording (the
+// demo's length), and the shortest it takes (MinIntervalS).
+func TestCheckInterval(t *testing.T) {
+	const durS = 9
+	for _, c := range []struct {
+		name     string
+		from, to float64
+		ok       bool
+	}{
+		{"middle", 2, 5, true},
+		{"to the end", 2, 0, true},
+		{"whole", 0, durS, true},
+		{"shortest", 1, 1 + MinIntervalS, true},
+		{"too short", 1, 1 + MinIntervalS/2, false},
+		{"to the end, too short", durS - MinIntervalS/2, 0, false},
+		{"reversed", 5, 2, false},
+		{"empty", 3, 3, false},
+		{"negative", -1, 3, false},
+		{"past the end", 2, durS + 1, false},
+		{"starts after the end", durS + 1, 0, false},
+		{"NaN", math.NaN(), 3, false},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			err := CheckInterval(c.from, c.to, durS)
+			if (err == nil) != c.ok {
+				t.Fatalf("CheckInterval(%g, %g, %d): got %v, want ok %v", c.from, c.to, durS, err, c.ok)
+			}
+			if err != nil && !errors.Is(err, ErrInterval) {
+				t.Fatalf("error %v does not wrap ErrInterval", err)
+			}
+		})
 	}
 }

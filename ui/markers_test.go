@@ -78,3 +78,39 @@ func TestViewportRanges(t *testing.T) {
 		t.Errorf("pan past the end: got [%g, %g], want [9, 10]", a, b)
 	}
 }
+
+// Marker and interval edits share one history: undo takes back the last
+// edit of either, and a new recording starts from its kept interval with
+// an empty history.
+func TestMarkersIntervalHistory(t *testing.T) {
+	var m markers
+	m.Reset(span{FromS: 1})
+	m.Add(2)
+	if !m.SetInterval(span{FromS: 1.5, ToS: 4}) || m.SetInterval(span{FromS: 1.5, ToS: 4}) {
+		t.Fatal("SetInterval must report a change once, and no change for the same span")
+	}
+	m.Add(3)
+	for _, c := range []struct {
+		name  string
+		op    func() bool
+		times []float64
+		iv    span
+	}{
+		{"undo add 3", m.Undo, []float64{2}, span{1.5, 4}},
+		{"undo interval", m.Undo, []float64{2}, span{FromS: 1}},
+		{"undo add 2", m.Undo, nil, span{FromS: 1}},
+		{"redo add 2", m.Redo, []float64{2}, span{FromS: 1}},
+		{"redo interval", m.Redo, []float64{2}, span{1.5, 4}},
+	} {
+		if !c.op() {
+			t.Fatalf("%s: nothing to do", c.name)
+		}
+		if got := m.Times(); !slices.Equal(got, c.times) || m.Interval() != c.iv {
+			t.Fatalf("%s: got %v %+v, want %v %+v", c.name, got, m.Interval(), c.times, c.iv)
+		}
+	}
+	m.ReplaceInterval(span{})
+	if !m.Interval().whole() || !m.Undo() || m.Interval() != (span{FromS: 1}) {
+		t.Fatalf("ReplaceInterval must not be recorded: after undo %+v, want the state before the last recorded edit", m.Interval())
+	}
+}

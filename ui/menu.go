@@ -37,8 +37,10 @@ func (w *Window) actions() map[string]action {
 		"zoomreset": {"Whole recording", shortcut(fyne.Key0, 0), w.view.ResetView},
 		"next":      {"Next step", shortcut(fyne.KeyRight, 0), func() { w.stepBy(1) }},
 		"prev":      {"Previous step", shortcut(fyne.KeyLeft, 0), func() { w.stepBy(-1) }},
-		"undo":      {"Undo marker edit", shortcut(fyne.KeyZ, 0), w.undoMarker},
-		"redo":      {"Redo marker edit", shortcut(fyne.KeyZ, fyne.KeyModifierShift), w.redoMarker},
+		"undo":      {"Undo marker or interval edit", shortcut(fyne.KeyZ, 0), w.undoMarker},
+		"redo":      {"Redo marker or interval edit", shortcut(fyne.KeyZ, fyne.KeyModifierShift), w.redoMarker},
+		"span":      {"Analyse the selected span", shortcut(fyne.KeyI, 0), w.analyseSelection},
+		"whole":     {"Analyse the whole recording", shortcut(fyne.KeyI, fyne.KeyModifierShift), w.analyseWhole},
 		"clear":     {"Remove all markers", nil, w.clearMarkers},
 		"note":      {"Safety and first steps", nil, func() { w.showFirstRunNote(false) }},
 		"light":     {"Light theme", nil, func() { w.applyTheme(themeLight) }},
@@ -66,6 +68,7 @@ func (w *Window) mainMenu() *fyne.MainMenu {
 	view := fyne.NewMenu("View", w.item("spec"), w.item("rpm"), fyne.NewMenuItemSeparator(),
 		w.item("zoomin"), w.item("zoomout"), w.item("zoomsel"), w.item("zoomreset"), fyne.NewMenuItemSeparator(), theme)
 	steps := fyne.NewMenu("Steps", w.item("next"), w.item("prev"), fyne.NewMenuItemSeparator(),
+		w.item("span"), w.item("whole"), fyne.NewMenuItemSeparator(),
 		w.item("undo"), w.item("redo"), w.item("clear"))
 	help := fyne.NewMenu("Help", w.item("note"))
 	return fyne.NewMainMenu(file, view, steps, help)

@@ -3,6 +3,7 @@ package ui
 import (
 	"fmt"
 	"strconv"
+	"strings"
 
 	"fyne.io/fyne/v2"
 	"fyne.io/fyne/v2/container"
@@ -68,8 +69,16 @@ const (
 	prefNoteSeen   = "first_run.note_seen"
 )
 
+// prefIntervals keeps each recording's analysis interval, one
+// "from<TAB>to<TAB>path" entry per recording, latest first (path "" is the
+// demo). The interval belongs to a recording, unlike the settings above.
+const prefIntervals = "analysis.intervals"
+
 // maxRecent is how many recent files the File menu lists.
 const maxRecent = 8
+
+// maxIntervals is how many recordings' intervals the preferences keep.
+const maxIntervals = 64
 
 // loadSettings reads the settings from the preferences; missing keys give
 // the zero value, i.e. the core's defaults.
@@ -112,6 +121,39 @@ func addRecent(p fyne.Preferences, path string) []string {
 	}
 	p.SetStringList(prefRecent, list)
 	return list
+}
+
+// loadInterval returns the analysis interval kept for the recording at
+// path, or the zero span (the whole recording).
+func loadInterval(p fyne.Preferences, path string) span {
+	for _, e := range p.StringList(prefIntervals) {
+		f := strings.SplitN(e, "\t", 3)
+		if len(f) != 3 || f[2] != path {
+			continue
+		}
+		from, err1 := strconv.ParseFloat(f[0], 64)
+		to, err2 := strconv.ParseFloat(f[1], 64)
+		if err1 != nil || err2 != nil {
+			return span{}
+		}
+		return span{FromS: from, ToS: to}
+	}
+	return span{}
+}
+
+// saveInterval keeps iv as the interval of the recording at path; the
+// zero span forgets it.
+func saveInterval(p fyne.Preferences, path string, iv span) {
+	var list []string
+	if !iv.whole() {
+		list = append(list, strconv.FormatFloat(iv.FromS, 'g', -1, 64)+"\t"+strconv.FormatFloat(iv.ToS, 'g', -1, 64)+"\t"+path)
+	}
+	for _, e := range p.StringList(prefIntervals) {
+		if f := strings.SplitN(e, "\t", 3); len(f) == 3 && f[2] != path && len(list) < maxIntervals {
+			list = append(list, e)
+		}
+	}
+	p.SetStringList(prefIntervals, list)
 }
 
 const autoChoice = "auto"

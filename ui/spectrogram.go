@@ -53,7 +53,19 @@ var (
 	colMarker    = color.NRGBA{R: 40, G: 200, B: 255, A: 255}
 	colMarkerSel = color.NRGBA{R: 255, G: 120, B: 20, A: 255}
 	colSelection = color.NRGBA{R: 255, G: 255, B: 255, A: 50}
+	// colOutside shades the time outside the analysis interval; colEdge
+	// draws the interval's two ends.
+	colOutside = color.NRGBA{R: 0, G: 0, B: 0, A: 130}
+	colEdge    = color.NRGBA{R: 255, G: 255, B: 255, A: 170}
 )
+
+// dimmed is a marker colour at the opacity used for markers outside the
+// analysis interval (kept, but not fitted).
+func dimmed(c color.NRGBA) color.NRGBA {
+	const dimAlpha = 90 // of 255; reads as "switched off" on every map colour
+	c.A = dimAlpha
+	return c
+}
 
 // stepCurve is one fitted step drawn as rpm over time with its 95 % band.
 // The window fills it from the core; the view only draws it.
@@ -77,6 +89,10 @@ type SpectrogramView struct {
 	OnRemoveMarker func(i int)
 	OnSelectMarker func(i int)
 	OnViewChanged  func()
+	// OnAnalyseSpan asks for the selected span to become the analysis
+	// interval; OnAnalyseWhole for the whole recording again.
+	OnAnalyseSpan  func(fromS, toS float64)
+	OnAnalyseWhole func()
 
 	mu       sync.Mutex // guards what draw reads
 	spec     *dsp.Spectrogram
@@ -90,6 +106,10 @@ type SpectrogramView struct {
 
 	markerTimes []float64
 	selMarker   int
+	// interval is the analysis interval (zero: none); durS the recording's
+	// length, which closes an interval open to the end.
+	interval span
+	durS     float64
 
 	img    *image.RGBA
 	imgKey drawKey
@@ -148,9 +168,9 @@ func NewSpectrogramView() *SpectrogramView {
 func (v *SpectrogramView) SetData(rep *analysis.Report, curves []stepCurve, keepView bool) {
 	v.mu.Lock()
 	if rep == nil {
-		v.spec, v.track, v.steps, v.curves, v.blades = nil, nil, nil, nil, 0
+		v.spec, v.track, v.steps, v.curves, v.blades, v.durS = nil, nil, nil, nil, 0, 0
 	} else {
-		v.spec, v.track, v.steps, v.curves, v.blades = rep.Spectrogram, rep.Track, rep.Steps, curves, rep.Blades
+		v.spec, v.track, v.steps, v.curves, v.blades, v.durS = rep.Spectrogram, rep.Track, rep.Steps, curves, rep.Blades, rep.DurationS
 	}
 	full := viewport{View: figure.DefaultView(v.spec, v.blades, v.track)}
 	full.R0, full.R1 = rpmRange(v.track, v.curves)
@@ -206,6 +226,40 @@ func (v *SpectrogramView) SetMarkers(times []float64, sel int) {
 	v.selMarker = sel
 	v.mu.Unlock()
 	v.Refresh()
+}
+
+// SetInterval shows the analysis interval: the time outside it is shaded
+// and the markers there are dimmed. The zero span shows none.
+func (v *SpectrogramView) SetInterval(iv span) {
+	v.mu.Lock()
+	v.interval = iv
+	v.mu.Unlock()
+	v.Refresh()
+}
+
+// SelectedSpan returns the time span of the selection rectangle, limited
+// to the recording; ok is false when there is no selection.
+func (v *SpectrogramView) SelectedSpan() (fromS, toS float64, ok bool) {
+	v.mu.Lock()
+	defer v.mu.Unlock()
+	if v.sel == nil {
+		return 0, 0, false
+	}
+	fromS, toS = math.Max(v.sel.t0, 0), v.sel.t1
+	if v.durS > 0 {
+		toS = math.Min(toS, v.durS)
+	}
+	return fromS, toS, true
+}
+
+// outside reports whether time t lies outside the analysis interval. v.mu
+// held.
+func (v *SpectrogramView) outside(t float64) bool {
+	iv := v.interval
+	if iv.whole() {
+		return false
+	}
+	return t < iv.FromS || (iv.ToS > 0 && t > iv.ToS)
 }
 
 // SetMode switches between the spectrogram and the rpm view.
@@ -486,13 +540,14 @@ func (v *SpectrogramView) TappedSecondary(e *fyne.PointEvent) {
 }
 
 // contextItems are the context menu's entries at p: remove the marker
-// under the pointer (or add one there), zoom to the selection, reset the
-// view.
+// under the pointer (or add one there), zoom to the selection or analyse
+// it, analyse the whole recording again, reset the view.
 func (v *SpectrogramView) contextItems(p fyne.Position) []*fyne.MenuItem {
 	v.mu.Lock()
 	i := v.markerAt(p.X)
 	t, _ := v.dataAt(p)
 	hasSel := v.sel != nil
+	hasInterval := !v.interval.whole()
 	v.mu.Unlock()
 	var items []*fyne.MenuItem
 	if i >= 0 {
@@ -510,6 +565,16 @@ func (v *SpectrogramView) contextItems(p fyne.Position) []*fyne.MenuItem {
 	}
 	if hasSel {
 		items = append(items, fyne.NewMenuItem("Zoom to selection", func() { v.ZoomToSelection() }))
+		if v.OnAnalyseSpan != nil {
+			items = append(items, fyne.NewMenuItem("Analyse the selected span", func() {
+				if t0, t1, ok := v.SelectedSpan(); ok {
+					v.OnAnalyseSpan(t0, t1)
+				}
+			}))
+		}
+	}
+	if hasInterval && v.OnAnalyseWhole != nil {
+		items = append(items, fyne.NewMenuItem("Analyse the whole recording", v.OnAnalyseWhole))
 	}
 	return append(items, fyne.NewMenuItem("Reset view", v.ResetView))
 }
@@ -688,6 +753,8 @@ func (v *SpectrogramView) CreateRenderer() fyne.WidgetRenderer {
 	r.selRect = canvas.NewRectangle(colSelection)
 	r.selRect.StrokeColor = color.NRGBA{R: 255, G: 255, B: 255, A: 200}
 	r.selRect.StrokeWidth = 1
+	r.shadeL = canvas.NewRectangle(colOutside)
+	r.shadeR = canvas.NewRectangle(colOutside)
 	r.Refresh()
 	return r
 }
@@ -737,8 +804,10 @@ type spectrogramRenderer struct {
 	frame   *canvas.Rectangle
 	strip   *canvas.Rectangle
 	selRect *canvas.Rectangle
-	objects []fyne.CanvasObject
-	shown   drawKey // what the plot image last showed (size aside)
+	// shadeL and shadeR cover the plot left and right of the interval.
+	shadeL, shadeR *canvas.Rectangle
+	objects        []fyne.CanvasObject
+	shown          drawKey // what the plot image last showed (size aside)
 }
 
 func (r *spectrogramRenderer) Destroy() {}
@@ -795,6 +864,30 @@ func (r *spectrogramRenderer) rebuild() {
 	ylo, yhi := v.yRange()
 	xOf, yOf := v.xOf, v.yOf
 	hasData := v.spec != nil
+	iv := v.interval
+	if !iv.whole() && iv.ToS == 0 {
+		iv.ToS = v.durS
+	}
+	outside := make([]bool, len(marks))
+	for i, t := range marks {
+		outside[i] = v.outside(t)
+	}
+	// The analysis interval: shade what lies outside it, within the plot.
+	if !iv.whole() && vp.T1 > vp.T0 {
+		left, right := pos.X, pos.X+size.Width
+		x0 := min(max(xOf(iv.FromS), left), right)
+		x1 := min(max(xOf(iv.ToS), left), right)
+		if x0 > left {
+			r.shadeL.Move(pos)
+			r.shadeL.Resize(fyne.NewSize(x0-left, size.Height))
+			objs = append(objs, r.shadeL, vline(x0, pos.Y, pos.Y+size.Height, colEdge))
+		}
+		if x1 < right {
+			r.shadeR.Move(fyne.NewPos(x1, pos.Y))
+			r.shadeR.Resize(fyne.NewSize(right-x1, size.Height))
+			objs = append(objs, r.shadeR, vline(x1, pos.Y, pos.Y+size.Height, colEdge))
+		}
+	}
 	// Time axis.
 	if vp.T1 > vp.T0 {
 		for _, tk := range ticks(vp.T0, vp.T1) {
@@ -838,6 +931,9 @@ func (r *spectrogramRenderer) rebuild() {
 		c, wdt := colMarker, float32(1.5)
 		if i == selM {
 			c, wdt = colMarkerSel, 2.5
+		}
+		if outside[i] {
+			c = dimmed(c)
 		}
 		ln := canvas.NewLine(c)
 		ln.StrokeWidth = wdt

@@ -55,6 +55,7 @@ type Window struct {
 	view       *SpectrogramView
 	results    *resultsTable
 	panel      *settingsPanel
+	ivPanel    *intervalPanel
 	compare    *comparePanel
 	fileLabel  *widget.Label
 	readout    *widget.Label
@@ -93,9 +94,12 @@ func (w *Window) build() {
 	w.view.OnMoveMarker = w.moveMarker
 	w.view.OnRemoveMarker = w.removeMarker
 	w.view.OnSelectMarker = func(i int) { w.view.SetMarkers(w.marks.Times(), i) }
+	w.view.OnAnalyseSpan = func(from, to float64) { w.setInterval(span{FromS: from, ToS: to}) }
+	w.view.OnAnalyseWhole = w.analyseWhole
 
 	w.results = newResultsTable(w.selectStep)
 	w.panel = newSettingsPanel(w.settings, w.settingsChanged)
+	w.ivPanel = newIntervalPanel(w.submitInterval, w.analyseSelection, w.analyseWhole)
 	w.compare = newComparePanel(w)
 
 	w.fileLabel = widget.NewLabel("")
@@ -149,7 +153,7 @@ func (w *Window) build() {
 		widget.NewFormItem("Floor (dB)", w.dbLo),
 		widget.NewFormItem("Top (dB)", w.dbHi))
 
-	hint := widget.NewLabel("Click the time axis (or Shift-click the plot) to place a command marker; drag it to move; Delete or right-click removes it. With markers, exactly the marked steps are fitted. Drag on the plot to select, scroll to zoom.")
+	hint := widget.NewLabel("Click the time axis (or Shift-click the plot) to place a command marker; drag it to move; Delete or right-click removes it. With markers, exactly the marked steps are fitted. Drag on the plot to select, scroll to zoom; Analyse the selected span (Steps menu or right-click) fits only the steps in it.")
 	hint.Wrapping = fyne.TextWrapWord
 	hint.Importance = widget.LowImportance
 
@@ -164,6 +168,9 @@ func (w *Window) build() {
 	side := container.NewVBox(
 		widget.NewLabelWithStyle("Analysis settings", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		w.panel.box,
+		widget.NewSeparator(),
+		widget.NewLabelWithStyle("Analysis interval", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
+		w.ivPanel.box,
 		widget.NewSeparator(),
 		widget.NewLabelWithStyle("Colour scale", fyne.TextAlignLeading, fyne.TextStyle{Bold: true}),
 		levelsBox,
@@ -234,9 +241,12 @@ func decode(path string) (*dsp.Audio, error) {
 // load makes rec the current recording and analyses it.
 func (w *Window) load(rec *recording) {
 	w.cur = rec
-	w.marks.Reset()
+	iv := loadInterval(w.prefs, rec.Path)
+	w.marks.Reset(iv)
 	w.selStep = -1
 	w.view.SetMarkers(nil, -1)
+	w.view.SetInterval(iv)
+	w.ivPanel.set(iv)
 	w.fileLabel.SetText(rec.name())
 	w.win.SetTitle("whirlfit — " + rec.name())
 	w.analyse(false)
@@ -250,6 +260,8 @@ func (w *Window) analyse(keepView bool) {
 		return
 	}
 	cfg := forRecording(w.settings.Config(w.marks.Times()), rec.Path)
+	iv := w.marks.Interval()
+	cfg.FromS, cfg.ToS = iv.FromS, iv.ToS
 	path := rec.Path
 	audio := rec.Audio
 	w.status.SetText("Analysing " + rec.name() + " …")
@@ -358,6 +370,17 @@ func (w *Window) apply(rec *recording, res runResult, err error, keepView bool) 
 		rec.Audio = res.audio
 	}
 	rec.Err = err
+	if err != nil && errors.Is(err, analysis.ErrInterval) && !w.marks.Interval().whole() {
+		// The interval kept for this path does not fit the recording (the
+		// file changed, or it was set before the length was known): say
+		// so and analyse the whole recording. This corrects, it is not an
+		// edit, so it stays out of the history.
+		msg := strings.TrimPrefix(err.Error(), "analysis: ") + ".\n\nThe whole recording is analysed instead."
+		w.marks.ReplaceInterval(span{})
+		w.intervalChanged()
+		dialog.ShowInformation("Interval not used", msg, w.win)
+		return
+	}
 	if err != nil {
 		if errors.Is(err, context.Canceled) {
 			w.status.SetText("Analysis cancelled.")
@@ -403,6 +426,9 @@ func (w *Window) done() {
 // summaryLine says in one line what the analysis found.
 func summaryLine(r *analysis.Report) string {
 	s := fmt.Sprintf("%s: %.1f s, %d blade(s), %d step(s) fitted", r.File, r.DurationS, r.Blades, len(r.Steps))
+	if iv := (span{FromS: r.Config.FromS, ToS: r.Config.ToS}); !iv.whole() {
+		s += " in " + intervalText(iv)
+	}
 	if len(r.Warnings) > 0 {
 		s += fmt.Sprintf("; %d warning(s): %s", len(r.Warnings), r.Warnings[0])
 		if len(r.Warnings) > 1 {
@@ -452,17 +478,16 @@ func (w *Window) removeMarker(i int) {
 	}
 }
 
+// undoMarker and redoMarker undo and redo the last marker or interval edit.
 func (w *Window) undoMarker() {
 	if w.marks.Undo() {
-		w.view.SetMarkers(w.marks.Times(), -1)
-		w.analyse(true)
+		w.intervalChanged()
 	}
 }
 
 func (w *Window) redoMarker() {
 	if w.marks.Redo() {
-		w.view.SetMarkers(w.marks.Times(), -1)
-		w.analyse(true)
+		w.intervalChanged()
 	}
 }
 
