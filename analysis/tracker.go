@@ -47,6 +47,9 @@ const (
 	searchFrameS = 0.06
 	searchHopS   = 0.02
 	readingHopS  = 0.04
+	// readingMinFrames is the least number of search frames the reading
+	// pass keeps before its hop grows beyond searchHopS.
+	readingMinFrames = 750
 	// maxSearchFrames bounds the search pass's salience matrix (frames ×
 	// candidates float32 and int16): the hop grows on long files.
 	maxSearchFrames = 12000
@@ -264,7 +267,9 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	}
 	hopS := searchHopS
 	if blades == 0 {
-		hopS = readingHopS
+		// Coarser on long recordings only: a short one needs every frame
+		// for its profile.
+		hopS = min(readingHopS, max(searchHopS, float64(len(tk.x))/fs/readingMinFrames))
 	}
 	hop1 := max(int(math.Round(hopS*fs)), (len(tk.x)-n1)/maxSearchFrames+1)
 	tk.search = dsp.STFTConfig{FrameLen: n1, Hop: hop1, FFTLen: n1}.Resolve(fs)
