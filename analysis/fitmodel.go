@@ -34,6 +34,30 @@ type fopdtKernel struct {
 	a, b, w []float64 // bin edges (s, relative to the sample time) and weights
 	left    float64   // a[0]: smallest offset
 	right   float64   // b[len-1]: largest offset
+	// coef[j] = w[j]/(b[j] − a[j]); ca, xa (cb, xb) are the suffix sums
+	// of coef and coef·a (coef·b) from bin j on (see fopdtTau).
+	coef, ca, xa, cb, xb []float64
+}
+
+// finish fills the kernel's τ-independent sums.
+func (k *fopdtKernel) finish() {
+	n := len(k.w)
+	k.left, k.right = k.a[0], k.b[n-1]
+	k.coef = make([]float64, n)
+	k.ca, k.xa = make([]float64, n), make([]float64, n)
+	k.cb, k.xb = make([]float64, n), make([]float64, n)
+	for j := n - 1; j >= 0; j-- {
+		c := k.w[j] / (k.b[j] - k.a[j])
+		k.coef[j] = c
+		k.ca[j], k.xa[j] = c, c*k.a[j]
+		k.cb[j], k.xb[j] = c, c*k.b[j]
+		if j+1 < n {
+			k.ca[j] += k.ca[j+1]
+			k.xa[j] += k.xa[j+1]
+			k.cb[j] += k.cb[j+1]
+			k.xb[j] += k.xb[j+1]
+		}
+	}
 }
 
 // maxKernelBins bounds the histogram: 48 bins over an 80 ms window are
@@ -54,8 +78,9 @@ func newFOPDTKernel(k []float64, dt float64) fopdtKernel {
 		}
 	}
 	if len(k) == 0 || !(dt > 0) || !(sum > 0) {
-		return fopdtKernel{a: []float64{-pointKernelHalfWidthS}, b: []float64{pointKernelHalfWidthS}, w: []float64{1},
-			left: -pointKernelHalfWidthS, right: pointKernelHalfWidthS}
+		kb := fopdtKernel{a: []float64{-pointKernelHalfWidthS}, b: []float64{pointKernelHalfWidthS}, w: []float64{1}}
+		kb.finish()
+		return kb
 	}
 	// Trim zero taps at both ends.
 	lo, hi := 0, len(k)-1
@@ -80,7 +105,7 @@ func newFOPDTKernel(k []float64, dt float64) fopdtKernel {
 		kb.b = append(kb.b, (float64(end-1)-c+0.5)*dt)
 		kb.w = append(kb.w, w/sum)
 	}
-	kb.left, kb.right = kb.a[0], kb.b[len(kb.b)-1]
+	kb.finish()
 	return kb
 }
 
@@ -146,10 +171,30 @@ func (k *fopdtKernel) maxMass(w float64) float64 {
 }
 
 // fopdtTau caches what depends on τ alone.
+//
+// Near the onset (a sample whose kernel straddles it) G is a sum over bin
+// edges. Write c_j = w_j/(b_j − a_j); then
+//
+//	G(s) = τ·Σ_j c_j·[H(u(b_j)) − H(u(a_j))],   u(x) = (s + x)/τ,
+//
+// and each of the two sums runs over the edges x_i past the onset (x_i > −s),
+// a suffix of the sorted edges. With H(u) = u − 1 + e^{−u} it splits into
+// sums that do not depend on s:
+//
+//	Σ_{i≥i0} c_i·H(u_i) = [(s − τ)·C_{i0} + X_{i0}]/τ + e^{−u_{i0}}·E_{i0}
+//	C_k = Σ_{i≥k} c_i,  X_k = Σ_{i≥k} c_i·x_i,  E_k = Σ_{i≥k} c_i·e^{−(x_i − x_k)/τ},
+//
+// and the derivatives likewise with F_k = Σ_{i≥k} c_i·x_i·e^{−(x_i − x_k)/τ}.
+// E and F are built from the last edge down (E_k = c_k + e^{−(x_{k+1} − x_k)/τ}·E_{k+1}),
+// every exponent negative, so no term overflows however small τ is. A
+// sample then costs one exponential and a binary search instead of three
+// per bin edge (TestSeenSuffixAgrees holds it to the per-bin sums).
 type fopdtTau struct {
 	tau  float64
 	c    float64 // C(τ): G = 1 − e^{−(s+left)/τ}·C far from the onset
 	dcdt float64 // dC/dτ
+	// Suffix sums over the left edges (a) and the right edges (b).
+	ea, fa, eb, fb [maxKernelBins]float64
 }
 
 func (k *fopdtKernel) prepare(tau float64) fopdtTau {
@@ -165,7 +210,48 @@ func (k *fopdtKernel) prepare(tau float64) fopdtTau {
 		ft.c += k.w[j] * tau * d / h
 		ft.dcdt += k.w[j] / h * (d + (al*ea-be*eb)/tau)
 	}
+	n := len(k.w)
+	for j := n - 1; j >= 0; j-- {
+		c := k.coef[j]
+		ft.ea[j], ft.fa[j] = c, c*k.a[j]
+		ft.eb[j], ft.fb[j] = c, c*k.b[j]
+		if j+1 < n {
+			ra := math.Exp(-(k.a[j+1] - k.a[j]) / tau)
+			rb := math.Exp(-(k.b[j+1] - k.b[j]) / tau)
+			ft.ea[j] += ra * ft.ea[j+1]
+			ft.fa[j] += ra * ft.fa[j+1]
+			ft.eb[j] += rb * ft.eb[j+1]
+			ft.fb[j] += rb * ft.fb[j+1]
+		}
+	}
 	return ft
+}
+
+// edgeSums returns, for the edges x (increasing) with suffix sums C, X and
+// the τ-dependent E, F, the sums over the edges past the onset of c·H(u),
+// c·g(u) and c·(H − u·g)(u) at offset s.
+func edgeSums(s, tau float64, x, C, X, E, F []float64) (sh, sg, shug float64) {
+	// First edge with s + x > 0.
+	lo, hi := 0, len(x)
+	for lo < hi {
+		m := int(uint(lo+hi) >> 1)
+		if s+x[m] > 0 {
+			hi = m
+		} else {
+			lo = m + 1
+		}
+	}
+	if lo == len(x) {
+		return 0, 0, 0
+	}
+	u0 := (s + x[lo]) / tau
+	e := math.Exp(-u0)
+	cs, xs, es, fs := C[lo], X[lo], E[lo], F[lo]
+	sh = ((s-tau)*cs+xs)/tau + e*es
+	sg = cs - e*es
+	// Σ c·(e^{−u}(1 + u) − 1), with Σ c·u·e^{−u} = e^{−u0}·(s·E + F)/τ.
+	shug = e*(es+(s*es+fs)/tau) - cs
+	return sh, sg, shug
 }
 
 // primH is H(u); primHug is H(u) − u·g(u) = ∂(τH(v/τ))/∂τ.
@@ -205,22 +291,13 @@ func (k *fopdtKernel) seen(s float64, ft *fopdtTau) (G, dGds, dGdtau float64) {
 		dGdtau = -(e*x/tau*ft.c + e*ft.dcdt)
 		return G, dGds, dGdtau
 	}
-	for j := range k.w {
-		h := k.b[j] - k.a[j]
-		ua := (s + k.a[j]) / tau
-		ub := (s + k.b[j]) / tau
-		if ub <= 0 {
-			continue
-		}
-		G += k.w[j] * tau * (primH(ub) - primH(ua)) / h
-		dGds += k.w[j] * (stepG(ub) - stepG(ua)) / h
-		dGdtau += k.w[j] * (primHug(ub) - primHug(ua)) / h
-	}
-	return G, dGds, dGdtau
+	n := len(k.w)
+	bh, bg, bhug := edgeSums(s, tau, k.b, k.cb, k.xb, ft.eb[:n], ft.fb[:n])
+	ah, ag, ahug := edgeSums(s, tau, k.a, k.ca, k.xa, ft.ea[:n], ft.fa[:n])
+	return tau * (bh - ah), bg - ag, bhug - ahug
 }
 
-// seenG returns G(s) alone (the profile search needs no derivatives),
-// evaluating the primitive once per bin edge where bins are contiguous.
+// seenG returns G(s) alone (the profile search needs no derivatives).
 func (k *fopdtKernel) seenG(s float64, ft *fopdtTau) float64 {
 	tau := ft.tau
 	if s+k.right <= 0 {
@@ -229,23 +306,7 @@ func (k *fopdtKernel) seenG(s float64, ft *fopdtTau) float64 {
 	if s+k.left >= 0 {
 		return 1 - math.Exp(-(s+k.left)/tau)*ft.c
 	}
-	G := 0.0
-	prevB, prevH := math.NaN(), 0.0
-	for j := range k.w {
-		ub := (s + k.b[j]) / tau
-		if ub <= 0 {
-			continue
-		}
-		var ha float64
-		if k.a[j] == prevB {
-			ha = prevH
-		} else {
-			ha = primH((s + k.a[j]) / tau)
-		}
-		hb := primH(ub)
-		G += k.w[j] * tau * (hb - ha) / (k.b[j] - k.a[j])
-		prevB, prevH = k.b[j], hb
-	}
+	G, _, _ := k.seen(s, ft)
 	return G
 }
 
