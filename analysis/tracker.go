@@ -89,8 +89,9 @@ const (
 	refineFloorRel = 0.0005
 	// profileMinHz is the lowest frequency entered in the comb profile;
 	// profileEvery thins the frames that enter it.
-	profileMinHz = 30
-	profileEvery = 4
+	profileMinHz  = 30
+	profileEvery  = 4
+	profileFrames = 1500
 	// despikeHalf (frames each side) and despikeRel tune despikeTrack.
 	despikeHalf = 4
 	despikeRel  = 0.02
@@ -302,7 +303,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	total := tk.done + T + 2*outFrames
 	if blades == 0 {
 		nextT := outFrames * outHop / max(1, int(math.Round(searchHopS*fs)))
-		total = T + outFrames/profileEvery + nextT + 2*outFrames
+		total = T + min(outFrames/profileEvery, profileFrames) + nextT + 2*outFrames
 	}
 	lim := comb.readLimit(K) // the bins the combs read
 	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
@@ -544,10 +545,12 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	if rc.Hop == 0 {
 		rc.Hop = max(1, min(rc.FrameLen/4, int(math.Round(refineHopS*fs))))
 	}
-	every := profileEvery
+	// The profile is an average: every profileEvery-th frame, and fewer
+	// on long recordings (at most about profileFrames).
+	every := max(profileEvery, (len(tk.x)/max(1, rc.Hop))/profileFrames)
 	if blades == 0 {
 		// Only the comb profile of this pass is used: take just the frames
-		// that enter it (every profileEvery-th of the output hop).
+		// that enter it.
 		rc.Hop *= every
 		every = 1
 	}
@@ -688,7 +691,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		tr.Confidence[i] = 1 - math.Exp(-math.Max(0, float64(s.sal[kb-klo]))/float64(comb.thr[kb]))
 		// Comb profile: the line level matched at each lattice position,
 		// from 3 bins and profileMinHz up (below, the floor is unreliable),
-		// on every profileEvery-th frame (it is an average).
+		// on one frame in `every` (it is an average).
 		if i%every != 0 {
 			return
 		}
