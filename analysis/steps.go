@@ -3,7 +3,9 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"sort"
+	"sync"
 )
 
 // StepConfig tunes step detection and fitting. Its zero value means
@@ -136,18 +138,38 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 	var warns []string
 	var out []StepResult
 	var from []int
+	// The steps are fitted independently (each reads the track and the
+	// kernel only and writes its own plan), so on all cores; the results
+	// are taken in plan order, as if fitted one after another.
+	results := make([]*StepResult, len(plans))
+	errs := make([]error, len(plans))
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for range min(len(plans), runtime.GOMAXPROCS(0)) {
+		wg.Go(func() {
+			for i := range next {
+				results[i], errs[i] = fitPlan(tr, k, hop, &plans[i], cfg, uint64(i))
+				res := results[i]
+				if errs[i] == nil && plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
+					if alt := standstillAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
+						results[i] = alt
+					}
+				}
+			}
+		})
+	}
 	for i := range plans {
-		res, err := fitPlan(tr, k, hop, &plans[i], cfg, uint64(i))
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	for i := range plans {
+		res, err := results[i], errs[i]
 		if err != nil {
 			if plans[i].hasCommand() {
 				warns = append(warns, fmt.Sprintf("step at %.3f s not fitted: %v", plans[i].anchor(), err))
 			}
 			continue
-		}
-		if plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
-			if alt := standstillAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
-				res = alt
-			}
 		}
 		if !plans[i].hasCommand() {
 			if plans[i].sharp && res.TauS.Value <= tauMinS*1.01 {
