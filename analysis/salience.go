@@ -396,3 +396,144 @@ func selectK(x []float32, k int) float32 {
 	}
 	return x[k]
 }
+
+// scatter is the search pass's form of combTable.salience over every
+// candidate: instead of reading three bins at each of the candidates'
+// comb positions, it visits the frame's peaks and updates the positions
+// that read each one. A noise frame has a peak in about one bin of four,
+// so most of the reads find nothing; visiting the peaks skips them. The
+// arithmetic is posValue's, in the same order, so the result is equal
+// bit for bit (TestScatterSalienceAgrees).
+type scatter struct {
+	t *combTable
+	// first[i][j+1] is the first candidate whose harmonic i (i = count:
+	// the shaft line) has b0 = int(x + 0.5) ≥ j; rows of bins+3.
+	first [][]int32
+	// slot[i][k] is the index into the values of candidate k's harmonic
+	// i (−1 where it has none).
+	slot [][]int32
+	vals []float32 // per comb position, then per candidate's shaft line
+}
+
+// newScatter prepares the tables for t on frames of bins bins.
+func newScatter(t *combTable, bins int) *scatter {
+	K := len(t.f0)
+	maxH := 0
+	for k := 0; k < K; k++ {
+		maxH = max(maxH, int(t.start[k+1]-t.start[k]))
+	}
+	sc := &scatter{t: t, vals: make([]float32, len(t.pos)+K)}
+	for i := 0; i <= maxH; i++ {
+		row := make([]int32, bins+3)
+		slot := make([]int32, K)
+		at := func(k int) (float32, bool) {
+			if i == maxH {
+				if x := t.shaftPos[k]; x >= 0 {
+					return x, true
+				}
+				return 0, false
+			}
+			if int(t.start[k])+i < int(t.start[k+1]) {
+				return t.pos[int(t.start[k])+i], true
+			}
+			return 0, false
+		}
+		// Candidates having this harmonic form one run (harmonics are cut
+		// at the top of the spectrum only); b0 rises along it.
+		j := -1
+		for k := 0; k < K; k++ {
+			slot[k] = -1
+			x, ok := at(k)
+			if !ok {
+				continue
+			}
+			if i == maxH {
+				slot[k] = int32(len(t.pos) + k)
+			} else {
+				slot[k] = t.start[k] + int32(i)
+			}
+			for b0 := int(x + 0.5); j <= b0 && j <= bins+1; j++ {
+				row[j+1] = int32(k)
+			}
+		}
+		for ; j <= bins+1; j++ {
+			row[j+1] = int32(K)
+		}
+		sc.first = append(sc.first, row)
+		sc.slot = append(sc.slot, slot)
+	}
+	return sc
+}
+
+// worker returns a scatter sharing sc's tables with values of its own (one
+// per STFT worker).
+func (sc *scatter) worker() *scatter {
+	w := *sc
+	w.vals = make([]float32, len(sc.vals))
+	return &w
+}
+
+// salience writes what t.salience(dst, z, pk, 0, K) writes; z and pk need
+// to be valid below limit (t.readLimit(K) or more).
+func (sc *scatter) salience(dst, z, pk []float32, limit int) {
+	t := sc.t
+	clear(sc.vals)
+	shaftRow := len(sc.first) - 1
+	n := min(limit, len(pk)-1)
+	for b := 1; b < n; b++ {
+		p := pk[b]
+		if p < 0 {
+			continue
+		}
+		zb := min(z[b], zCap)
+		for i, row := range sc.first {
+			if b+3 >= len(row) {
+				continue
+			}
+			slot := sc.slot[i]
+			for k := row[b]; k < row[b+3]; k++ {
+				s := slot[k]
+				if s < 0 {
+					continue
+				}
+				var x, inv float32
+				if i == shaftRow {
+					x, inv = t.shaftPos[k], t.shaftInv[k]
+				} else {
+					x, inv = t.pos[s], t.inv[s]
+				}
+				d := p - x
+				u := d * d * inv
+				if u >= 1 {
+					continue
+				}
+				sc.vals[s] = max(sc.vals[s], zb*(1-u))
+			}
+		}
+	}
+	for k := range t.f0 {
+		var s, odd, even float32
+		var nOdd, nEven int
+		lo, hi := t.start[k], t.start[k+1]
+		ws := t.w[lo:hi]
+		for i, v := range sc.vals[lo:hi] {
+			s += ws[i] * (v - emptyCost)
+			if i%2 == 0 {
+				odd += v
+				nOdd++
+			} else {
+				even += v
+				nEven++
+			}
+		}
+		if nEven > 0 {
+			if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
+				s -= oddEvenCost * d
+			}
+		}
+		if t.shaftPos[k] >= 0 {
+			s += shaftLineWeight * max(0, sc.vals[len(t.pos)+k]-emptyCost)
+		}
+		dst[k] = s - t.thr[k]
+	}
+}

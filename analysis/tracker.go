@@ -290,9 +290,11 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	}
 	workers := sc.Workers
 	scratch := make([]searchScratch, workers)
+	scat := newScatter(comb, bins)
 	for w := range scratch {
 		scratch[w].z = make([]float32, bins)
 		scratch[w].pk = make([]float32, bins)
+		scratch[w].sc = scat.worker()
 	}
 	// Progress counts frames: this search pass, the refinement (about
 	// twice its frames at the output hop, with the second pass over moving
@@ -309,7 +311,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	err := sc.Process(ctx, tk.x, fs, func(w, i int, re, im []float32) {
 		s := &scratch[w]
 		s.wh.whitenBelow(s.z, s.pk, re, im, lim)
-		comb.salience(sal[i*K:(i+1)*K], s.z, s.pk, 0, K)
+		s.sc.salience(sal[i*K:(i+1)*K], s.z, s.pk, lim)
 		if red != nil {
 			red.Frame(w, i, re, im)
 		}
@@ -477,6 +479,7 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 type searchScratch struct {
 	wh    whitener
 	z, pk []float32
+	sc    *scatter
 }
 
 func (tk *tracker) report(total int) func(done, total int) {
