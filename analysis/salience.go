@@ -2,6 +2,7 @@ package analysis
 
 import (
 	"math"
+	"slices"
 )
 
 // Harmonic salience: how well a candidate shaft frequency f0 explains the
@@ -318,10 +319,8 @@ func (w *whitener) whitenBelow(z, pk, re, im []float32, limit int) {
 	lnScale := float32(math.Log(float64(floorScale)))
 	for b := 0; b < nb; b++ {
 		lo, hi := int(w.edges[b]), int(w.edges[b+1])
-		blk := w.blk[:hi-lo]
-		copy(blk, w.lnP[lo:hi])
-		q := int(floorQuantile * float64(len(blk)))
-		w.lnFloor[b] = selectK(blk, q) + lnScale
+		q := int(floorQuantile * float64(hi-lo))
+		w.lnFloor[b] = smallestK(w.lnP[lo:hi], q, w.blk) + lnScale
 	}
 	// Interpolate the block floors linearly (in log) between block centres.
 	// With all blocks the last one's floor holds to the end; with fewer,
@@ -364,6 +363,28 @@ func (w *whitener) whitenBelow(z, pk, re, im []float32, limit int) {
 		}
 		pk[k] = float32(k) + d
 	}
+}
+
+// smallestK returns the k-th smallest element of x (0-based) without
+// changing x, keeping the k+1 smallest seen so far sorted in buf (len(buf)
+// > k). For the whitener's small k (a fifth of a block of at most 32) it
+// does fewer comparisons than a selection, most elements failing the first.
+func smallestK(x []float32, k int, buf []float32) float32 {
+	top := buf[:k+1]
+	copy(top, x[:k+1])
+	slices.Sort(top)
+	for _, v := range x[k+1:] {
+		if v >= top[k] {
+			continue
+		}
+		j := k
+		for j > 0 && top[j-1] > v {
+			top[j] = top[j-1]
+			j--
+		}
+		top[j] = v
+	}
+	return top[k]
 }
 
 // selectK returns the k-th smallest element of x (0-based), reordering x

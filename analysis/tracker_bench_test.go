@@ -4,6 +4,7 @@ import (
 	"context"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"whirlfit/dsp"
@@ -194,5 +195,32 @@ func BenchmarkScatterSalienceFrame(b *testing.B) {
 	for b.Loop() {
 		wh.whitenBelow(z, pk, re, im, lim)
 		sc.salience(sal, z, pk, lim)
+	}
+}
+
+// smallestK agrees with selectK (and so with a sort) on random blocks,
+// ties included.
+func TestSmallestK(t *testing.T) {
+	rng := rand.New(rand.NewPCG(2, 2))
+	buf := make([]float32, 40)
+	for trial := range 2000 {
+		n := 1 + rng.IntN(40)
+		x := make([]float32, n)
+		for i := range x {
+			x[i] = float32(rng.IntN(12)) // ties
+			if trial%2 == 0 {
+				x[i] = float32(rng.NormFloat64())
+			}
+		}
+		k := rng.IntN(n)
+		orig := slices.Clone(x)
+		got := smallestK(x, k, buf)
+		if !slices.Equal(x, orig) {
+			t.Fatal("smallestK changed its input")
+		}
+		want := selectK(slices.Clone(x), k)
+		if got != want {
+			t.Fatalf("n %d k %d: smallestK %g, selectK %g", n, k, got, want)
+		}
 	}
 }
