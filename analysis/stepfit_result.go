@@ -260,6 +260,17 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 		tauHi = math.Max(tauHi, 2*k.sdS())
 	}
 
+	// A fit in which the change of speed is not told from none (a track
+	// that stays flat through the step: the wrong line followed, or no
+	// response) or in which some direction is undetermined says nothing of
+	// τ or of the onset within their search ranges.
+	if dh := tq * math.Sqrt(math.Max(cov[parDelta][parDelta], 0)); cc.ridged || !(math.Abs(fit.p[parDelta]) > dh) {
+		tauLo, tauHi = tauMinS, tauMaxS
+		t0Lo, t0Hi = math.Min(t0Lo, p.onsetLo), math.Max(t0Hi, p.onsetHi)
+		if p.hasCommand() {
+			t0Lo = math.Min(t0Lo, p.commandS)
+		}
+	}
 	// An interval reaching past the search range says only that the data
 	// cannot narrow it further; keep every bound finite (and JSON-safe).
 	tauLo, tauHi = clampFinite(tauLo, tauMinS, tauMaxS), clampFinite(tauHi, tauMinS, tauMaxS)
