@@ -241,6 +241,9 @@ type stepPlan struct {
 	up    bool
 	t90   float64
 	sharp bool
+	// seenFromS: a detected start from standstill uses the track only from
+	// here on (where the rotor first shows); 0 when not set.
+	seenFromS float64
 }
 
 func (p *stepPlan) anchor() float64 {
