@@ -93,10 +93,14 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 			j++
 		}
-		// A brief dip below the threshold (noise, a glitch) must not cut
-		// one transition in two: join with the previous run of the same
-		// sign when it ended less than 2W samples before.
-		if m := len(cands); m > 0 && i-lastEnd < 2*W && math.Signbit(D[cands[m-1]]) == sgn {
+		// A brief dip below the threshold (noise, a glitch, a lost frame)
+		// must not cut one transition in two: join with the previous run
+		// of the same sign when it ended less than 2W samples before,
+		// unless both runs stand well clear of the dip between them (two
+		// steps the same way in quick succession, each with its own
+		// peak).
+		if m := len(cands); m > 0 && i-lastEnd < 2*W && math.Signbit(D[cands[m-1]]) == sgn &&
+			!twoPeaks(D, lastEnd, i, math.Abs(D[cands[m-1]]), math.Abs(D[best])) {
 			if math.Abs(D[best]) > math.Abs(D[cands[m-1]]) {
 				cands[m-1] = best
 			}
@@ -288,6 +292,20 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		}
 	}
 	return merged, warns
+}
+
+// twoPeaks reports whether two same-signed runs of D, with peaks of
+// magnitude p1 and p2, are two changes: the dip between them (D[from:to],
+// where the runs are below the threshold) falls below half the smaller
+// peak. A dip where D is undefined (a lost stretch) separates nothing.
+func twoPeaks(D []float64, from, to int, p1, p2 float64) bool {
+	dip, seen := math.Inf(1), false
+	for q := max(from, 0); q < min(to, len(D)); q++ {
+		if !math.IsNaN(D[q]) {
+			dip, seen = math.Min(dip, math.Abs(D[q])), true
+		}
+	}
+	return seen && dip < 0.5*math.Min(p1, p2)
 }
 
 // firstValid returns the index of the first non-NaN sample of y, or −1.

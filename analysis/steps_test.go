@@ -56,6 +56,16 @@ func TestDetectSteps(t *testing.T) {
 			want: []want{{1.007, Down, 0.064}},
 		},
 		{
+			// Two rises 0.29 s apart, the first slow: its tail keeps the
+			// two-window difference near the threshold until the second
+			// begins, yet each has its own peak.
+			name: "two rises in quick succession",
+			spec: synthTrackSpec{hopS: 0.004, windowS: 0.05, durS: 3.2, startHz: 114, noiseHz: 0.3,
+				steps: []synthStep{{commandS: 1.5, deadS: 0.007, tauS: 0.066, toHz: 180},
+					{commandS: 1.79, deadS: 0.01, tauS: 0.024, toHz: 235}}},
+			want: []want{{1.507, Up, 0.066}, {1.8, Up, 0.024}},
+		},
+		{
 			name: "noise only",
 			spec: synthTrackSpec{hopS: 0.004, windowS: 0.05, durS: 2, startHz: 400, noiseHz: 2},
 		},
