@@ -137,7 +137,11 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 	var out []StepResult
 	var from []int
 	for i := range plans {
-		res, err := fitPlan(tr, k, hop, &plans[i], cfg, uint64(i))
+		on := tr
+		if p := &plans[i]; p.heldToS > p.heldFromS {
+			on = withoutStretch(tr, p.heldFromS, p.heldToS)
+		}
+		res, err := fitPlan(on, k, hop, &plans[i], cfg, uint64(i))
 		if err != nil {
 			if plans[i].hasCommand() {
 				warns = append(warns, fmt.Sprintf("step at %.3f s not fitted: %v", plans[i].anchor(), err))
@@ -241,6 +245,9 @@ type stepPlan struct {
 	up    bool
 	t90   float64
 	sharp bool
+	// heldFromS..heldToS: samples where the tracker held the old line
+	// after the rotor had left it; left out of the fit (both 0: none).
+	heldFromS, heldToS float64
 	// seenFromS: a detected start from standstill uses the track only from
 	// here on (where the rotor first shows); 0 when not set.
 	seenFromS float64
@@ -328,6 +335,19 @@ func markStandstill(p *stepPlan, tr *Track) {
 	}
 	p.standstill = true
 	p.notes = append(p.notes, fmt.Sprintf("no motor in the track before the command: a start from standstill, the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(firstValid)))
+}
+
+// withoutStretch returns a copy of tr whose samples in [from, to] are NaN
+// (no motor found), the other fields shared.
+func withoutStretch(tr *Track, from, to float64) *Track {
+	out := *tr
+	out.ShaftHz = append([]float64(nil), tr.ShaftHz...)
+	for i, t := range tr.TimeS {
+		if t >= from && t <= to {
+			out.ShaftHz[i] = math.NaN()
+		}
+	}
+	return &out
 }
 
 // trackHop returns the median sample spacing.

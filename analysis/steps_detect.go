@@ -264,9 +264,19 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		// The 10 % point of a first-order response is 0.105 τ after the
 		// onset; the window smears it earlier by up to half its span.
 		onset := t10
-		plans = append(plans, stepPlan{commandS: math.NaN(),
+		pl := stepPlan{commandS: math.NaN(),
 			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop,
-			up: bestChange > 0, t90: t90, sharp: sharp})
+			up: bestChange > 0, t90: t90, sharp: sharp}
+		if h0, ok := heldBefore(tr, indexAt(tr.TimeS, t10), left, hop, k.spanS()); ok {
+			// The tracker held the old line after the rotor had left it:
+			// the onset is where the comb first weakened, and the held
+			// samples are left out of the fit (the response is seen only
+			// once the tracker catches up).
+			pl.heldFromS, pl.heldToS = tr.TimeS[h0], t10
+			pl.onsetLo = tr.TimeS[h0] - k.spanS()/2 - 2*hop - 0.02
+			pl.notes = append(pl.notes, fmt.Sprintf("the tracker held the old speed from %.3f to %.3f s while the comb weakened (the rotor had already left it, typically reverberation); those samples are left out of the fit", tr.TimeS[h0], t10))
+		}
+		plans = append(plans, pl)
 	}
 	sort.Slice(plans, func(a, b int) bool { return plans[a].onsetLo < plans[b].onsetLo })
 	// Merge plans whose onset ranges overlap (one transition seen twice),
@@ -422,6 +432,62 @@ func persistentChange(y []float64, c, left, right int, hop, change float64) bool
 		return false
 	}
 	return (a-b)/change >= 0.8
+}
+
+// Held line: the tracker keeps the old speed for a while after a change
+// (common practice: reverberation sustains the old line while the direct
+// sound moves on), and the comb it follows weakens meanwhile.
+const (
+	heldConfidenceDrop = 0.9  // confidence below this share of the plateau's
+	heldMaxS           = 0.15 // longest hold looked for
+)
+
+// indexAt returns the index of the sample at time t (the first at or after
+// it).
+func indexAt(ts []float64, t float64) int {
+	return sort.SearchFloat64s(ts, t)
+}
+
+// heldBefore looks back from i10, the last sample still at the old level
+// before a change, for a stretch where the tracker held that level while
+// its confidence stayed below heldConfidenceDrop of the plateau before (or
+// it lost the line): the rotor had already started to move. It returns the
+// first index of that stretch when it is longer than half the window's
+// span (shorter ones are the window's own smear) and ok.
+func heldBefore(tr *Track, i10, left int, hop, spanS float64) (int, bool) {
+	if len(tr.Confidence) != tr.Len() || i10 <= left || i10 >= tr.Len() {
+		return 0, false
+	}
+	maxBack := int(math.Round(heldMaxS / hop))
+	// The plateau's confidence, well before the stretch looked at.
+	var pc []float64
+	for i := max(left, i10-maxBack-int(math.Round(0.1/hop))); i < i10-maxBack; i++ {
+		if tr.Valid(i) {
+			pc = append(pc, tr.Confidence[i])
+		}
+	}
+	if len(pc) < 5 {
+		return 0, false
+	}
+	lim := heldConfidenceDrop * median(pc)
+	low := func(i int) bool { return !tr.Valid(i) || tr.Confidence[i] < lim }
+	// Allow one confident frame inside the stretch (a frame where the old
+	// line happened to stand out).
+	h0, misses := i10+1, 0
+	for i := i10; i >= max(left, i10-maxBack); i-- {
+		if low(i) {
+			h0 = i
+			continue
+		}
+		misses++
+		if misses > 1 {
+			break
+		}
+	}
+	if h0 > i10 || !low(i10) || tr.TimeS[i10]-tr.TimeS[h0] < spanS/2 || h0 <= max(left, i10-maxBack) {
+		return 0, false
+	}
+	return h0, true
 }
 
 // crossingsAround finds, walking out from index c, the last time before c
