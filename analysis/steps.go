@@ -148,7 +148,11 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 	for range min(len(plans), runtime.GOMAXPROCS(0)) {
 		wg.Go(func() {
 			for i := range next {
-				results[i], errs[i] = fitPlan(tr, k, hop, &plans[i], cfg, uint64(i))
+				on := tr
+				if p := &plans[i]; p.heldToS > p.heldFromS {
+					on = withoutStretch(tr, p.heldFromS, p.heldToS)
+				}
+				results[i], errs[i] = fitPlan(on, k, hop, &plans[i], cfg, uint64(i))
 				res := results[i]
 				if errs[i] == nil && plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
 					if alt := standstillAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
@@ -263,6 +267,12 @@ type stepPlan struct {
 	up    bool
 	t90   float64
 	sharp bool
+	// heldFromS..heldToS: samples where the tracker held the old line
+	// after the rotor had left it; left out of the fit (both 0: none).
+	heldFromS, heldToS float64
+	// seenFromS: a detected start from standstill uses the track only from
+	// here on (where the rotor first shows); 0 when not set.
+	seenFromS float64
 }
 
 func (p *stepPlan) anchor() float64 {
@@ -347,6 +357,19 @@ func markStandstill(p *stepPlan, tr *Track) {
 	}
 	p.standstill = true
 	p.notes = append(p.notes, fmt.Sprintf("no motor in the track before the command: a start from standstill, the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(firstValid)))
+}
+
+// withoutStretch returns a copy of tr whose samples in [from, to] are NaN
+// (no motor found), the other fields shared.
+func withoutStretch(tr *Track, from, to float64) *Track {
+	out := *tr
+	out.ShaftHz = append([]float64(nil), tr.ShaftHz...)
+	for i, t := range tr.TimeS {
+		if t >= from && t <= to {
+			out.ShaftHz[i] = math.NaN()
+		}
+	}
+	return &out
 }
 
 // trackHop returns the median sample spacing.

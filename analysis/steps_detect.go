@@ -3,6 +3,7 @@ package analysis
 import (
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -38,10 +39,28 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	n := tr.Len()
 	hop := trackHop(tr)
 	var warns []string
-	y := medianFilter(tr.ShaftHz, max(1, int(math.Round(detectMedianS/hop/2))))
+	mh := max(1, int(math.Round(detectMedianS/hop/2)))
+	y := medianFilter(tr.ShaftHz, mh)
 	lag := max(1, int(math.Ceil(k.spanS()/hop)))
 	sigma := robustNoise(y, lag)
 	W := max(3, int(math.Round(detectWindowS/hop)))
+	// A leading stretch without a harmonic comb that ends in a rise is a
+	// silent rotor spinning up: what the tracker followed there is left
+	// out, so that the spin-up is seen as one from standstill.
+	masked := false
+	if lead := leadingNoComb(tr, hop); lead > 0 {
+		raw := slices.Clone(tr.ShaftHz)
+		held := false
+		for i := range lead {
+			held = held || !math.IsNaN(raw[i])
+			raw[i] = math.NaN()
+		}
+		ym := medianFilter(raw, mh)
+		sm := robustNoise(ym, lag)
+		if _, ok := risesFrom(ym, firstValid(ym), W, sm, cfg.MinChangeFraction); ok && held {
+			y, sigma, masked = ym, sm, true
+		}
+	}
 
 	D := make([]float64, n)
 	lvl := make([]float64, n)
@@ -74,10 +93,14 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 			j++
 		}
-		// A brief dip below the threshold (noise, a glitch) must not cut
-		// one transition in two: join with the previous run of the same
-		// sign when it ended less than 2W samples before.
-		if m := len(cands); m > 0 && i-lastEnd < 2*W && math.Signbit(D[cands[m-1]]) == sgn {
+		// A brief dip below the threshold (noise, a glitch, a lost frame)
+		// must not cut one transition in two: join with the previous run
+		// of the same sign when it ended less than 2W samples before,
+		// unless both runs stand well clear of the dip between them (two
+		// steps the same way in quick succession, each with its own
+		// peak).
+		if m := len(cands); m > 0 && i-lastEnd < 2*W && math.Signbit(D[cands[m-1]]) == sgn &&
+			!twoPeaks(D, lastEnd, i, math.Abs(D[cands[m-1]]), math.Abs(D[best])) {
 			if math.Abs(D[best]) > math.Abs(D[cands[m-1]]) {
 				cands[m-1] = best
 			}
@@ -104,6 +127,19 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		if i == n || tr.TimeS[g1]-tr.TimeS[g0] > maxGapStepS {
 			continue
 		}
+		// A gap the two-window difference sees across (its windows keep
+		// enough valid samples) needs no look of its own: D already
+		// decided whether a change lies there.
+		seen := true
+		for q := g0; q <= g1; q++ {
+			if math.IsNaN(D[q]) {
+				seen = false
+				break
+			}
+		}
+		if seen {
+			continue
+		}
 		b := windowMedian(y, g0-W, g0-1)
 		a := windowMedian(y, g1+1, g1+W)
 		if math.IsNaN(a) || math.IsNaN(b) || math.Abs(a-b) <= math.Max(detectNoiseK*sigma, 0.5*cfg.MinChangeFraction*math.Max(math.Abs(a), math.Abs(b))) {
@@ -125,22 +161,14 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 
 	var plans []stepPlan
 	tStart := tr.TimeS[0]
-	first := -1
-	for i := 0; i < n; i++ {
-		if !math.IsNaN(y[i]) {
-			first = i
-			break
-		}
-	}
+	first := firstValid(y)
 	if first < 0 {
 		return nil, []string{"no motor found anywhere in the track"}
 	}
 	if tr.TimeS[first]-tStart >= standstillMinGap {
 		// Leading stretch without motor: a spin-up from standstill if the
 		// first part the tracker sees is still rising.
-		a := windowMedian(y, first, first+W/2)
-		b := windowMedian(y, first+W, first+2*W)
-		if !math.IsNaN(a) && !math.IsNaN(b) && b-a > math.Max(detectNoiseK*sigma, cfg.MinChangeFraction*b) {
+		if a, ok := risesFrom(y, first, W, sigma, cfg.MinChangeFraction); ok {
 			t1 := tr.TimeS[first]
 			// Where the spin-up reaches 90 % of the speed it settles at
 			// (taken 0.5–0.7 s after the motor appears, or earlier when
@@ -156,8 +184,12 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 					break
 				}
 			}
+			notes := []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}
+			if masked {
+				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: no harmonic comb stands out there (the rotor is silent), whatever line the tracker followed", t1))
+			}
 			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true, up: true, t90: t90,
-				notes: []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}})
+				seenFromS: t1, notes: notes})
 			// Drop candidates inside this spin-up.
 			for len(cands) > 0 && tr.TimeS[cands[0]] < t1+0.05 {
 				cands = cands[1:]
@@ -232,9 +264,19 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		// The 10 % point of a first-order response is 0.105 τ after the
 		// onset; the window smears it earlier by up to half its span.
 		onset := t10
-		plans = append(plans, stepPlan{commandS: math.NaN(),
+		pl := stepPlan{commandS: math.NaN(),
 			onsetLo: onset - k.spanS()/2 - 2*hop - 0.02, onsetHi: onset + k.spanS()/2 + 2*hop,
-			up: bestChange > 0, t90: t90, sharp: sharp})
+			up: bestChange > 0, t90: t90, sharp: sharp}
+		if h0, ok := heldBefore(tr, indexAt(tr.TimeS, t10), left, hop, k.spanS()); ok {
+			// The tracker held the old line after the rotor had left it:
+			// the onset is where the comb first weakened, and the held
+			// samples are left out of the fit (the response is seen only
+			// once the tracker catches up).
+			pl.heldFromS, pl.heldToS = tr.TimeS[h0], t10
+			pl.onsetLo = tr.TimeS[h0] - k.spanS()/2 - 2*hop - 0.02
+			pl.notes = append(pl.notes, fmt.Sprintf("the tracker held the old speed from %.3f to %.3f s while the comb weakened (the rotor had already left it, typically reverberation); those samples are left out of the fit", tr.TimeS[h0], t10))
+		}
+		plans = append(plans, pl)
 	}
 	sort.Slice(plans, func(a, b int) bool { return plans[a].onsetLo < plans[b].onsetLo })
 	// Merge plans whose onset ranges overlap (one transition seen twice),
@@ -252,7 +294,112 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	}
 	planWindows(merged, tr, k)
 	limitDetectedWindows(merged)
+	for i := range merged {
+		if p := &merged[i]; p.standstill && p.seenFromS > p.fromS {
+			// Only the rotor's own samples: the frames straddling where
+			// it appears mix it with what the tracker followed before.
+			p.fromS = p.seenFromS + k.right
+		}
+	}
 	return merged, warns
+}
+
+// twoPeaks reports whether two same-signed runs of D, with peaks of
+// magnitude p1 and p2, are two changes: the dip between them (D[from:to],
+// where the runs are below the threshold) falls below half the smaller
+// peak. A dip where D is undefined (a lost stretch) separates nothing.
+func twoPeaks(D []float64, from, to int, p1, p2 float64) bool {
+	dip, seen := math.Inf(1), false
+	for q := max(from, 0); q < min(to, len(D)); q++ {
+		if !math.IsNaN(D[q]) {
+			dip, seen = math.Min(dip, math.Abs(D[q])), true
+		}
+	}
+	return seen && dip < 0.5*math.Min(p1, p2)
+}
+
+// firstValid returns the index of the first non-NaN sample of y, or −1.
+func firstValid(y []float64) int {
+	for i, v := range y {
+		if !math.IsNaN(v) {
+			return i
+		}
+	}
+	return -1
+}
+
+// risesFrom reports whether the track rises where it begins at first (a
+// spin-up seen from its first frames): the median of the W samples after
+// the first W exceeds that of the first W/2 by more than the noise and
+// minFrac of the speed. a is the level the tracker first saw.
+func risesFrom(y []float64, first, W int, sigma, minFrac float64) (a float64, ok bool) {
+	if first < 0 {
+		return math.NaN(), false
+	}
+	a = windowMedian(y, first, first+W/2)
+	b := windowMedian(y, first+W, first+2*W)
+	return a, !math.IsNaN(a) && !math.IsNaN(b) && b-a > math.Max(detectNoiseK*sigma, minFrac*b)
+}
+
+// Leading stretch without a harmonic comb (common practice: a confidence
+// near zero means no line stands out of the spectrum).
+const (
+	noCombConfidence   = 0.1  // below this, in a running median, no comb stands out
+	combFileConfidence = 0.4  // median confidence after it that shows the rotor clearly
+	noCombSmoothS      = 0.05 // running median span of the confidence
+)
+
+// leadingNoComb returns how many samples at the start of tr lie in a
+// stretch of at least standstillMinGap where no harmonic comb stands out
+// (running-median confidence below noCombConfidence) while the rest of the
+// track shows the rotor clearly (median confidence at least
+// combFileConfidence): before a spin-up the rotor is silent and the tracker
+// may hold on to noise or hum, which is not a speed. It returns 0 when
+// there is no such stretch or the track carries no confidences.
+func leadingNoComb(tr *Track, hop float64) int {
+	n := tr.Len()
+	if len(tr.Confidence) != n || n == 0 {
+		return 0
+	}
+	conf := medianFilter(tr.Confidence, max(1, int(math.Round(noCombSmoothS/hop/2))))
+	// The stretch ends where the comb stands out for noCombSmoothS on end;
+	// a comb that shows for a moment only (a click, a burst of hum) does
+	// not end it.
+	hold := max(1, int(math.Round(noCombSmoothS/hop)))
+	end, run := -1, 0
+	for i := range n {
+		if conf[i] >= noCombConfidence {
+			run++
+		} else {
+			run = 0
+		}
+		if run >= hold {
+			end = i - run + 1
+			break
+		}
+	}
+	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
+		return 0
+	}
+	var before []float64
+	for i := range end {
+		if !math.IsNaN(conf[i]) {
+			before = append(before, conf[i])
+		}
+	}
+	if len(before) > 0 && median(before) >= noCombConfidence/2 {
+		return 0
+	}
+	var rest []float64
+	for i := end; i < n; i++ {
+		if tr.Valid(i) {
+			rest = append(rest, tr.Confidence[i])
+		}
+	}
+	if len(rest) == 0 || median(rest) < combFileConfidence {
+		return 0
+	}
+	return end
 }
 
 // limitDetectedWindows judges each detected change on the stretch its own
@@ -285,6 +432,62 @@ func persistentChange(y []float64, c, left, right int, hop, change float64) bool
 		return false
 	}
 	return (a-b)/change >= 0.8
+}
+
+// Held line: the tracker keeps the old speed for a while after a change
+// (common practice: reverberation sustains the old line while the direct
+// sound moves on), and the comb it follows weakens meanwhile.
+const (
+	heldConfidenceDrop = 0.9  // confidence below this share of the plateau's
+	heldMaxS           = 0.15 // longest hold looked for
+)
+
+// indexAt returns the index of the sample at time t (the first at or after
+// it).
+func indexAt(ts []float64, t float64) int {
+	return sort.SearchFloat64s(ts, t)
+}
+
+// heldBefore looks back from i10, the last sample still at the old level
+// before a change, for a stretch where the tracker held that level while
+// its confidence stayed below heldConfidenceDrop of the plateau before (or
+// it lost the line): the rotor had already started to move. It returns the
+// first index of that stretch when it is longer than half the window's
+// span (shorter ones are the window's own smear) and ok.
+func heldBefore(tr *Track, i10, left int, hop, spanS float64) (int, bool) {
+	if len(tr.Confidence) != tr.Len() || i10 <= left || i10 >= tr.Len() {
+		return 0, false
+	}
+	maxBack := int(math.Round(heldMaxS / hop))
+	// The plateau's confidence, well before the stretch looked at.
+	var pc []float64
+	for i := max(left, i10-maxBack-int(math.Round(0.1/hop))); i < i10-maxBack; i++ {
+		if tr.Valid(i) {
+			pc = append(pc, tr.Confidence[i])
+		}
+	}
+	if len(pc) < 5 {
+		return 0, false
+	}
+	lim := heldConfidenceDrop * median(pc)
+	low := func(i int) bool { return !tr.Valid(i) || tr.Confidence[i] < lim }
+	// Allow one confident frame inside the stretch (a frame where the old
+	// line happened to stand out).
+	h0, misses := i10+1, 0
+	for i := i10; i >= max(left, i10-maxBack); i-- {
+		if low(i) {
+			h0 = i
+			continue
+		}
+		misses++
+		if misses > 1 {
+			break
+		}
+	}
+	if h0 > i10 || !low(i10) || tr.TimeS[i10]-tr.TimeS[h0] < spanS/2 || h0 <= max(left, i10-maxBack) {
+		return 0, false
+	}
+	return h0, true
 }
 
 // crossingsAround finds, walking out from index c, the last time before c
