@@ -155,10 +155,15 @@ func newCandidateGrid(lo, hi, rel float64) []float64 {
 	return f
 }
 
+// maxCombHarmonics bounds a comb's harmonic count (the salience's scratch).
+const maxCombHarmonics = 16
+
 // newCombTable builds the table for candidates f0 in a spectrum of bins
-// bins of width binHz: harmonics at m·order·f0, m = 1..count, weights
-// combDecay^(m−1). Harmonics beyond the spectrum are left out.
+// bins of width binHz: harmonics at m·order·f0, m = 1..count (at most
+// maxCombHarmonics), weights combDecay^(m−1). Harmonics beyond the spectrum
+// are left out.
 func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTable {
+	count = min(count, maxCombHarmonics)
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
 		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)),
 		shaftPos: make([]float32, len(f0)), shaftInv: make([]float32, len(f0)),
@@ -213,32 +218,47 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 // is the usual odd/even-harmonic check of pitch trackers against errors an
 // octave low.
 func (t *combTable) salience(dst, z, pk []float32, klo, khi int) {
+	var v [maxCombHarmonics]float32
 	for k := klo; k < khi; k++ {
-		var s, odd, even float32
-		var nOdd, nEven int
 		lo, hi := t.start[k], t.start[k+1]
-		pos, inv, ws := t.pos[lo:hi], t.inv[lo:hi], t.w[lo:hi]
+		pos, inv := t.pos[lo:hi], t.inv[lo:hi]
 		for i, x := range pos {
-			v := posValue(z, pk, x, inv[i])
-			s += ws[i] * (v - emptyCost)
-			if i%2 == 0 {
-				odd += v
-				nOdd++
-			} else {
-				even += v
-				nEven++
-			}
+			v[i] = posValue(z, pk, x, inv[i])
 		}
-		if nEven > 0 {
-			if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
-				s -= oddEvenCost * d
-			}
-		}
+		var shaft float32
 		if x := t.shaftPos[k]; x >= 0 {
-			s += shaftLineWeight * max(0, posValue(z, pk, x, t.shaftInv[k])-emptyCost)
+			shaft = posValue(z, pk, x, t.shaftInv[k])
 		}
-		dst[k-klo] = s - t.thr[k]
+		dst[k-klo] = t.score(k, v[:len(pos)], shaft)
 	}
+}
+
+// score returns S(f0[k]) − thr[k] from the values v of candidate k's comb
+// positions and shaft, the value of its shaft line (ignored where it has
+// none).
+func (t *combTable) score(k int, v []float32, shaft float32) float32 {
+	var s, odd, even float32
+	var nOdd, nEven int
+	ws := t.w[t.start[k]:t.start[k+1]]
+	for i, vi := range v {
+		s += ws[i] * (vi - emptyCost)
+		if i%2 == 0 {
+			odd += vi
+			nOdd++
+		} else {
+			even += vi
+			nEven++
+		}
+	}
+	if nEven > 0 {
+		if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
+			s -= oddEvenCost * d
+		}
+	}
+	if t.shaftPos[k] >= 0 {
+		s += shaftLineWeight * max(0, shaft-emptyCost)
+	}
+	return s - t.thr[k]
 }
 
 // whitener estimates a frame's noise floor; its scratch is reused.
@@ -533,28 +553,6 @@ func (sc *scatter) salience(dst, z, pk []float32, limit int) {
 		}
 	}
 	for k := range t.f0 {
-		var s, odd, even float32
-		var nOdd, nEven int
-		lo, hi := t.start[k], t.start[k+1]
-		ws := t.w[lo:hi]
-		for i, v := range sc.vals[lo:hi] {
-			s += ws[i] * (v - emptyCost)
-			if i%2 == 0 {
-				odd += v
-				nOdd++
-			} else {
-				even += v
-				nEven++
-			}
-		}
-		if nEven > 0 {
-			if d := even/float32(nEven) - odd/float32(nOdd) - oddEvenSlack; d > 0 {
-				s -= oddEvenCost * d
-			}
-		}
-		if t.shaftPos[k] >= 0 {
-			s += shaftLineWeight * max(0, sc.vals[len(t.pos)+k]-emptyCost)
-		}
-		dst[k] = s - t.thr[k]
+		dst[k] = t.score(k, sc.vals[t.start[k]:t.start[k+1]], sc.vals[len(t.pos)+k])
 	}
 }
