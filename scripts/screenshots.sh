@@ -5,8 +5,8 @@
 #
 # Builds whirlfit, starts it under Xvfb (software OpenGL) on FILE (the
 # built-in demo when omitted) and writes PNGs into docs/screenshots/:
-# spectrogram.png, step-rpm.png, rpm.png, markers.png, compare.png, dark.png and
-# first-run.png. The app drives itself through the views when
+# spectrogram.png, step-rpm.png, rpm.png, markers.png, interval.png, compare.png,
+# dark.png and first-run.png. The app drives itself through the views when
 # WHIRLFIT_SCREENSHOTS names a folder, then quits. Preferences go to a
 # throw-away folder so that your own settings are not touched.
 # Installs what it needs when missing (xvfb, ffmpeg, the cgo and X11/GL

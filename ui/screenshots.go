@@ -124,6 +124,19 @@ func Screenshots(w *Window, dir string, capture func(path string) error, quit fu
 		waitRun()
 	}
 
+	// An analysis interval around the middle of the recording, and back to
+	// the whole of it.
+	fyne.DoAndWait(func() {
+		if w.cur != nil && w.cur.Audio != nil {
+			d := w.cur.Audio.DurationS()
+			w.setInterval(span{FromS: 0.2 * d, ToS: 0.6 * d})
+		}
+	})
+	waitRun()
+	shot("interval.png")
+	fyne.DoAndWait(w.analyseWhole)
+	waitRun()
+
 	fyne.DoAndWait(func() {
 		w.modeRadio.SetSelected("Spectrogram")
 		w.compare.addCurrent()
