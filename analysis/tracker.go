@@ -568,7 +568,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	nf := rc.NumFrames(len(tk.x))
 	bins := rc.Bins()
 	binHz := fs / float64(rc.FFTLen)
-	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics)
+	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics).withoutMidCheck()
 
 	tr := &Track{Blades: max(blades, 1), TimeS: make([]float64, nf), ShaftHz: make([]float64, nf),
 		SigmaHz: make([]float64, nf), Confidence: make([]float64, nf)}
