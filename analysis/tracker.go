@@ -142,7 +142,9 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     frames is then solved again on salience from which lines that are
 //     there all the time (suppressStationary) and lines that stay strong
 //     while the path is elsewhere (suppressBackground) have been taken off:
-//     fans, pumps, a second rotor, tones and hum cannot hold the track.
+//     fans, pumps, a second rotor, tones and hum cannot hold the track,
+//     and frames where the path still follows such a line (the standstill
+//     before a spin-up) are left unvoiced (dropBackgroundRuns).
 //  2. Refinement: a shorter Hann STFT sized to the speed found. In each
 //     frame the local salience picks the best candidate near the search
 //     path, and each harmonic h's peak near h times the running estimate is
@@ -351,7 +353,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		// Voicing from the salience as it is; the path through the voiced
 		// frames from the salience with stationary lines pushed down.
 		voiced := rp.solve(sal)
-		if suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))) {
+		if stat := suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))); stat != nil {
 			rp.force = make([]int8, T)
 			for i, k := range voiced {
 				rp.force[i] = 1
@@ -363,8 +365,9 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 			// Lines that stay strong while the path is elsewhere are the
 			// background: take their level off and solve once more.
 			spread := int(math.Ceil(stationarySpread / comb.logStep))
-			if suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread) {
+			if bg := suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread); bg != nil {
 				tk.path = rp.solve(sal)
+				dropBackgroundRuns(tk.path, sal, K, stat, bg, max(1, int(math.Round(backgroundRunS*fs/float64(sc.Hop)))))
 			}
 		} else {
 			tk.path = voiced
@@ -392,10 +395,10 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 // the time-domain counterpart of whitening the spectrum: what stands out is
 // what changes.
 //
-// It reports whether it changed anything.
-func suppressStationary(sal []float32, T, K int, weight float32, spread int) bool {
+// It returns the amount taken off each candidate, nil when nothing changed.
+func suppressStationary(sal []float32, T, K int, weight float32, spread int) []float32 {
 	if T < 8 || weight == 0 {
-		return false
+		return nil
 	}
 	med := make([]float32, K)
 	col := make([]float32, T)
@@ -412,15 +415,18 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) boo
 		}
 	}
 	if slices.Max(dil) == 0 {
-		return false
+		return nil
+	}
+	for k := range dil {
+		dil[k] *= weight
 	}
 	for t := 0; t < T; t++ {
 		row := sal[t*K : (t+1)*K]
 		for k := range row {
-			row[k] -= weight * dil[k]
+			row[k] -= dil[k]
 		}
 	}
-	return true
+	return dil
 }
 
 // suppressBackground takes off each candidate's background level: the
@@ -429,9 +435,9 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) boo
 // that is strong while the path is elsewhere belongs to something else in
 // the room; the motor's own speeds are quiet when it runs at another one.
 // Candidates that the path is near in more than three quarters of the
-// voiced frames keep their level (a steady recording has no "elsewhere"). It reports
-// whether it changed anything.
-func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) bool {
+// voiced frames keep their level (a steady recording has no "elsewhere"). It
+// returns the amount taken off each candidate, nil when nothing changed.
+func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) []float32 {
 	voiced := 0
 	for _, k := range path {
 		if k >= 0 {
@@ -439,7 +445,7 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 		}
 	}
 	if voiced < 16 {
-		return false
+		return nil
 	}
 	col := make([]float32, 0, T)
 	bg := make([]float32, K)
@@ -459,7 +465,7 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 		}
 	}
 	if !any {
-		return false
+		return nil
 	}
 	dil := make([]float32, K)
 	for k := range dil {
@@ -473,7 +479,65 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 			row[k] -= dil[k]
 		}
 	}
-	return true
+	return dil
+}
+
+// backgroundRunS is the half width of the window over which
+// dropBackgroundRuns compares a path's salience before and after the
+// suppressions; backgroundKeep the share it must keep.
+const (
+	backgroundRunS = 0.25
+	backgroundKeep = 0.2
+)
+
+// dropBackgroundRuns leaves unvoiced the frames where the path follows a
+// line of the background: over the voiced frames within ±half frames, the
+// path's salience after suppressStationary and suppressBackground (sal;
+// stat and bg are what they took off each candidate) keeps less than
+// backgroundKeep of what it had before. Mains hum or another machine that
+// is there all along and holds the path while the motor stands still
+// loses all its salience to the two suppressions (it is stationary, and
+// strong while the path is elsewhere); the motor, which is quiet at its
+// speeds while it runs at others, keeps most of its own, and a motor
+// steady over the whole recording keeps 1 − stationaryWeight of it. Such
+// frames, voiced, would start the track on the hum line before a spin-up
+// and set the refinement's frame from its speed.
+func dropBackgroundRuns(path []int32, sal []float32, K int, stat, bg []float32, half int) {
+	T := len(path)
+	after := make([]float64, T+1) // prefix sums over voiced frames
+	before := make([]float64, T+1)
+	for t, k := range path {
+		after[t+1], before[t+1] = after[t], before[t]
+		if k >= 0 {
+			v := sal[t*K+int(k)]
+			after[t+1] += float64(v)
+			before[t+1] += float64(v + stat[k] + bg[k])
+		}
+	}
+	drop := make([]bool, T)
+	voiced, nd := 0, 0
+	for t, k := range path {
+		if k < 0 {
+			continue
+		}
+		voiced++
+		a, b := max(0, t-half), min(T, t+half+1)
+		if sb := before[b] - before[a]; sb > 0 && after[b]-after[a] < backgroundKeep*sb {
+			drop[t] = true
+			nd++
+		}
+	}
+	if 2*nd > voiced {
+		// Not a background line beside the motor: the path flips between
+		// two readings of one comb (the suppressions then take each
+		// reading's level off while the path is at the other).
+		return
+	}
+	for t, d := range drop {
+		if d {
+			path[t] = -1
+		}
+	}
 }
 
 type searchScratch struct {
