@@ -161,7 +161,8 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     power centroids of the spread lines (refineMoving), and a run of
 //     samples that starts after a stretch without motor (a spin-up from
 //     standstill) is followed back on the blade-pass line
-//     (extendSpinUps).
+//     (extendSpinUps), as is the move before a jump of the track (a step
+//     whose old lines ring on in the room: followJumps).
 //  3. Checks: the comb's profile along the track tells whether another
 //     blade count fits better (a warning), corrects a clear octave error of
 //     the shaft speed (a warning), or, with Blades = 0, gives the blade
@@ -802,6 +803,9 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	if err := tk.refineMoving(ctx, tr, rc, blades, scratch); err != nil {
 		return nil, err
 	}
+	if err := tk.followJumps(ctx, tr, rc, blades, scratch); err != nil {
+		return nil, err
+	}
 	if err := tk.extendSpinUps(ctx, tr, rc, blades, scratch); err != nil {
 		return nil, err
 	}
@@ -1172,6 +1176,124 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 			if j := i + stall; j < i0 && tr.ShaftHz[i] > tr.ShaftHz[j]*(1-spinUpStallRel) {
 				for q := i; q <= j; q++ {
 					tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = math.NaN(), math.NaN(), 0
+				}
+				break
+			}
+		}
+	}
+	return nil
+}
+
+// Jump following (followJumps).
+const (
+	// jumpRel is the least change of ln f between neighbouring samples
+	// that counts as a jump of the track.
+	jumpRel = 0.04
+	// jumpBackS is how far back from a jump the moving line is followed.
+	jumpBackS = 0.2
+	// jumpStepRel bounds the change of the speed from one frame to the one
+	// before it, going back.
+	jumpStepRel = 0.1
+	// jumpSlack is how far the line may move the other way from one frame
+	// to the one before it (the sample after a jump is a kernel average
+	// that may lie beyond the speed at its centre).
+	jumpSlack = 0.03
+	// jumpStallS and jumpStallRel: a line followed back that moves by
+	// less than jumpStallRel over jumpStallS is not the move.
+	jumpStallS   = 0.02
+	jumpStallRel = 0.01
+)
+
+// followJumps follows the blade-pass line back from each jump of the
+// track towards the speed before it. In a reverberant room the lines of
+// the old speed ring on after a step, and on a step down, where the new
+// speed's lines are quieter (tonal power grows about as f⁴), the ringing
+// old line is the strongest in the frames of the move: the track holds
+// the old speed and then jumps to the new one, and the move between is
+// lost. Going back frame by frame from the sample after the jump, the
+// strongest peak of the whitened spectrum (at least refineMinZ) within
+// B·[f·(1 − jumpSlack), f·(1 + jumpStepRel)] towards the old speed continues the
+// track, f the speed found in the frame after, the old line's own lobe
+// left out; it stops at a frame without one or jumpBackS back, and a
+// part where the line stalls (a steady line of another order or source,
+// not a move) is put back as it was. A step up is followed alike (the old line rings there
+// too, quieter than the new one, which the track then catches early).
+func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
+	nf := tr.Len()
+	b := float64(max(blades, 1))
+	binHz := tk.fs / float64(rc.FFTLen)
+	natBin := binHz * float64(rc.FFTLen/rc.FrameLen)
+	back := max(1, int(jumpBackS*tk.fs/float64(rc.Hop)))
+	stall := max(2, int(jumpStallS*tk.fs/float64(rc.Hop)))
+	var z, pk []float32
+	var saved [][3]float64 // the walked samples as they were, from i0 − 1 back
+	for i0 := 1; i0 < nf; i0++ {
+		if !tr.Valid(i0) || !tr.Valid(i0-1) {
+			continue
+		}
+		fNew, fOld := tr.ShaftHz[i0], tr.ShaftHz[i0-1]
+		if math.Abs(math.Log(fNew/fOld)) < jumpRel {
+			continue
+		}
+		rises := fNew < fOld // going back, the speed rises towards fOld
+		// The samples before the jump that hold the old speed.
+		first := i0 - 1
+		for first > 0 && i0-first < back && tr.Valid(first-1) &&
+			math.Abs(tr.ShaftHz[first-1]-fOld) < natBin/b {
+			first--
+		}
+		fHi := math.Max(fNew, fOld) * 1.01
+		nb := min(rc.Bins()-1, int(b*fHi/binHz)+2)
+		if need := (i0 - first) * nb; cap(z) < need {
+			z, pk = make([]float32, need), make([]float32, need)
+		}
+		x := tk.x[first*rc.Hop : (i0-1)*rc.Hop+rc.FrameLen]
+		err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
+			s := &scratch[w]
+			s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
+			copy(z[k*nb:(k+1)*nb], s.z[:nb])
+			copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
+		}, nil)
+		if err != nil {
+			return fmt.Errorf("analysis: tracking: %w", err)
+		}
+		oldLo, oldHi := b*fOld-2*natBin, b*fOld+2*natBin
+		f := fNew
+		saved = saved[:0]
+		for i := i0 - 1; i >= first; i-- {
+			zr, pr := z[(i-first)*nb:(i-first+1)*nb], pk[(i-first)*nb:(i-first+1)*nb]
+			var lo, hi float64
+			if rises {
+				lo, hi = b*f*(1-jumpSlack), b*min(fOld, f*(1+jumpStepRel))
+			} else {
+				lo, hi = b*max(fOld, f*(1-jumpStepRel)), b*f*(1+jumpSlack)
+			}
+			kb := -1
+			for k := max(1, int(math.Floor(lo/binHz))); k <= min(nb-1, int(math.Ceil(hi/binHz))); k++ {
+				p := float64(pr[k]) * binHz
+				if pr[k] < 0 || zr[k] < refineMinZ || p < lo || p > hi || (p > oldLo && p < oldHi) {
+					continue
+				}
+				if kb < 0 || zr[k] > zr[kb] {
+					kb = k
+				}
+			}
+			if kb < 0 {
+				break
+			}
+			fn := float64(pr[kb]) * binHz / b
+			snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
+			saved = append(saved, [3]float64{tr.ShaftHz[i], tr.SigmaHz[i], tr.Confidence[i]})
+			tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
+			tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			f = fn
+			// A line that does not move towards the old speed is not the
+			// move (another order or another source): that part is put
+			// back as it was.
+			if j := i + stall; j < i0 && math.Abs(math.Log(tr.ShaftHz[i]/tr.ShaftHz[j])) < jumpStallRel {
+				for q := i; q <= j; q++ {
+					o := saved[i0-1-q]
+					tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = o[0], o[1], o[2]
 				}
 				break
 			}
