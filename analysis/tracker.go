@@ -1194,6 +1194,8 @@ const (
 	// jumpStepRel bounds the change of the speed from one frame to the one
 	// before it, going back.
 	jumpStepRel = 0.1
+	// jumpGap is the most empty samples between the two sides of a jump.
+	jumpGap = 4
 	// jumpSlack is how far the line may move the other way from one frame
 	// to the one before it (the sample after a jump is a kernel average
 	// that may lie beyond the speed at its centre).
@@ -1205,19 +1207,24 @@ const (
 )
 
 // followJumps follows the blade-pass line back from each jump of the
-// track towards the speed before it. In a reverberant room the lines of
-// the old speed ring on after a step, and on a step down, where the new
-// speed's lines are quieter (tonal power grows about as f⁴), the ringing
-// old line is the strongest in the frames of the move: the track holds
-// the old speed and then jumps to the new one, and the move between is
-// lost. Going back frame by frame from the sample after the jump, the
-// strongest peak of the whitened spectrum (at least refineMinZ) within
-// B·[f·(1 − jumpSlack), f·(1 + jumpStepRel)] towards the old speed continues the
-// track, f the speed found in the frame after, the old line's own lobe
-// left out; it stops at a frame without one or jumpBackS back, and a
-// part where the line stalls (a steady line of another order or source,
-// not a move) is put back as it was. A step up is followed alike (the old line rings there
-// too, quieter than the new one, which the track then catches early).
+// track (across at most jumpGap empty samples) towards the speed before it.
+// In a reverberant room the lines of the old speed ring on after a step,
+// and on a step down, where the new speed's lines are quieter (tonal power
+// grows about as f⁴), the ringing old line is the strongest in the frames
+// of the move: the track holds the old speed, flickers and then jumps to
+// the new one, and the move between is lost. Going back frame by frame
+// from the sample after the jump, the peak of the whitened spectrum (at
+// least refineMinZ) nearest to B·f within B·[f·(1 − jumpSlack),
+// f·(1 + jumpStepRel)] towards the old speed continues the line, f the
+// speed found in the frame after; the old speed is the farthest one of the
+// samples within jumpBackS before the jump (a flickering track passes
+// through mixtures of the two), and its line's own lobe is left out. A
+// sample that agrees with the line within a natural bin stays as it is (a
+// centroid of a moving line is the better estimate); the others take the
+// peak. It stops at a frame without a peak or jumpBackS back, and where
+// the line stalls: that part is put back as it was if the walk replaced
+// most of it (a steady line of another order or source, not a move), and
+// kept if the track already followed it there. A step up is followed alike.
 func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
 	nf := tr.Len()
 	b := float64(max(blades, 1))
@@ -1226,42 +1233,58 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 	back := max(1, int(jumpBackS*tk.fs/float64(rc.Hop)))
 	stall := max(2, int(jumpStallS*tk.fs/float64(rc.Hop)))
 	var z, pk []float32
-	var saved [][3]float64 // the walked samples as they were, from i0 − 1 back
+	var saved [][3]float64 // the samples as they were, from i0 − 1 back
+	var kept []bool        // whether the walk left them as they were
 	for i0 := 1; i0 < nf; i0++ {
-		if !tr.Valid(i0) || !tr.Valid(i0-1) {
+		if !tr.Valid(i0) {
 			continue
 		}
-		fNew, fOld := tr.ShaftHz[i0], tr.ShaftHz[i0-1]
-		if math.Abs(math.Log(fNew/fOld)) < jumpRel {
+		// The sample before, across a gap of at most jumpGap frames.
+		p := i0 - 1
+		for p > 0 && i0-p <= jumpGap && !tr.Valid(p) {
+			p--
+		}
+		if !tr.Valid(p) {
 			continue
 		}
-		rises := fNew < fOld // going back, the speed rises towards fOld
-		// The samples before the jump that hold the old speed.
-		first := i0 - 1
-		for first > 0 && i0-first < back && tr.Valid(first-1) &&
-			math.Abs(tr.ShaftHz[first-1]-fOld) < natBin/b {
-			first--
+		fNew := tr.ShaftHz[i0]
+		if math.Abs(math.Log(fNew/tr.ShaftHz[p])) < jumpRel {
+			continue
 		}
-		fHi := math.Max(fNew, fOld) * 1.01
+		rises := fNew < tr.ShaftHz[p] // going back, the speed rises towards the old one
+		first := max(0, i0-back)
+		fOld := tr.ShaftHz[p]
+		for i := first; i < i0; i++ {
+			if tr.Valid(i) && (rises == (tr.ShaftHz[i] > fOld)) {
+				fOld = tr.ShaftHz[i]
+			}
+		}
+		fHi := math.Max(fNew, fOld) * 1.05
 		nb := min(rc.Bins()-1, int(b*fHi/binHz)+2)
-		if need := (i0 - first) * nb; cap(z) < need {
-			z, pk = make([]float32, need), make([]float32, need)
-		}
-		x := tk.x[first*rc.Hop : (i0-1)*rc.Hop+rc.FrameLen]
-		err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
-			s := &scratch[w]
-			s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
-			copy(z[k*nb:(k+1)*nb], s.z[:nb])
-			copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
-		}, nil)
-		if err != nil {
-			return fmt.Errorf("analysis: tracking: %w", err)
-		}
 		oldLo, oldHi := b*fOld-2*natBin, b*fOld+2*natBin
 		f := fNew
-		saved = saved[:0]
+		saved, kept = saved[:0], kept[:0]
+		// Frames are whitened in chunks, going back, as the walk needs them.
+		const chunk = 16
+		c0, c1 := i0, i0 // frames [c0, c1) are in z, pk
 		for i := i0 - 1; i >= first; i-- {
-			zr, pr := z[(i-first)*nb:(i-first+1)*nb], pk[(i-first)*nb:(i-first+1)*nb]
+			if i < c0 {
+				c1, c0 = c0, max(first, c0-chunk)
+				if need := (c1 - c0) * nb; cap(z) < need {
+					z, pk = make([]float32, need), make([]float32, need)
+				}
+				x := tk.x[c0*rc.Hop : (c1-1)*rc.Hop+rc.FrameLen]
+				err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
+					s := &scratch[w]
+					s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
+					copy(z[k*nb:(k+1)*nb], s.z[:nb])
+					copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
+				}, nil)
+				if err != nil {
+					return fmt.Errorf("analysis: tracking: %w", err)
+				}
+			}
+			zr, pr := z[(i-c0)*nb:(i-c0+1)*nb], pk[(i-c0)*nb:(i-c0+1)*nb]
 			var lo, hi float64
 			if rises {
 				lo, hi = b*f*(1-jumpSlack), b*min(fOld, f*(1+jumpStepRel))
@@ -1270,11 +1293,11 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 			}
 			kb := -1
 			for k := max(1, int(math.Floor(lo/binHz))); k <= min(nb-1, int(math.Ceil(hi/binHz))); k++ {
-				p := float64(pr[k]) * binHz
-				if pr[k] < 0 || zr[k] < refineMinZ || p < lo || p > hi || (p > oldLo && p < oldHi) {
+				q := float64(pr[k]) * binHz
+				if pr[k] < 0 || zr[k] < refineMinZ || q < lo || q > hi || (q > oldLo && q < oldHi) {
 					continue
 				}
-				if kb < 0 || zr[k] > zr[kb] {
+				if kb < 0 || math.Abs(q-b*f) < math.Abs(float64(pr[kb])*binHz-b*f) {
 					kb = k
 				}
 			}
@@ -1282,18 +1305,34 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 				break
 			}
 			fn := float64(pr[kb]) * binHz / b
-			snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
 			saved = append(saved, [3]float64{tr.ShaftHz[i], tr.SigmaHz[i], tr.Confidence[i]})
-			tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
-			tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			agrees := tr.Valid(i) && math.Abs(tr.ShaftHz[i]-fn) < natBin/b
+			kept = append(kept, agrees)
+			if agrees {
+				fn = tr.ShaftHz[i]
+			} else {
+				snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
+				tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
+				tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			}
 			f = fn
 			// A line that does not move towards the old speed is not the
 			// move (another order or another source): that part is put
 			// back as it was.
-			if j := i + stall; j < i0 && math.Abs(math.Log(tr.ShaftHz[i]/tr.ShaftHz[j])) < jumpStallRel {
+			if j := i + stall; j < i0 && math.Abs(math.Log(f/tr.ShaftHz[j])) < jumpStallRel {
+				// Where the track already followed that line, the walk has
+				// only met it (and mended what lay off it on the way).
+				n := 0
 				for q := i; q <= j; q++ {
-					o := saved[i0-1-q]
-					tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = o[0], o[1], o[2]
+					if kept[i0-1-q] {
+						n++
+					}
+				}
+				if 2*n <= j-i+1 {
+					for q := i; q <= j; q++ {
+						o := saved[i0-1-q]
+						tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = o[0], o[1], o[2]
+					}
 				}
 				break
 			}
