@@ -64,6 +64,13 @@ const (
 	// oddEvenSlack and oddEvenCost: see salience.
 	oddEvenSlack = 1.0
 	oddEvenCost  = 1.5
+	// midFirst and midLast are the comb orders m whose midpoints
+	// (m − ½)·B·f0 the octave-high check reads (see midPenalty); midSlack
+	// (nepers) is how much weaker than the comb's lines of the same orders
+	// those midpoints must be for the candidate to keep its salience whole.
+	midFirst = 2
+	midLast  = 4
+	midSlack = 1.0
 )
 
 var floorScale = float32(1 / -math.Log(1-floorQuantile))
@@ -89,7 +96,24 @@ type combTable struct {
 	// reach[k] is the highest position (bins) read by the combs of
 	// candidates 0..k, the shaft line's included.
 	reach []float32
+	// midPos[k·midN+j] is the midpoint (m − ½)·B·f0 of comb order
+	// m = midFirst + j in bins (−1 where the comb has no order m), midInv
+	// its tolerance.
+	midPos, midInv []float32
 }
+
+// withoutMidCheck switches the octave-high check (midPenalty) off: the
+// refinement picks its candidate near the search path, which has already
+// passed it, and a moving line's spread there would make it noisy.
+func (t *combTable) withoutMidCheck() *combTable {
+	for i := range t.midPos {
+		t.midPos[i] = -1
+	}
+	return t
+}
+
+// midN is the number of midpoints per candidate.
+const midN = midLast - midFirst + 1
 
 // readLimit returns the number of low bins that the salience of candidates
 // below khi reads (whitenBelow's limit for them).
@@ -167,7 +191,8 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 	t := &combTable{f0: f0, binHz: binHz, start: make([]int32, len(f0)+1),
 		thr: make([]float32, len(f0)), wsum: make([]float32, len(f0)),
 		shaftPos: make([]float32, len(f0)), shaftInv: make([]float32, len(f0)),
-		reach: make([]float32, len(f0))}
+		reach: make([]float32, len(f0)), midPos: make([]float32, len(f0)*midN),
+		midInv: make([]float32, len(f0)*midN)}
 	if len(f0) > 1 {
 		t.logStep = math.Log(f0[1] / f0[0])
 	}
@@ -202,6 +227,15 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 			t.reach[k] = max(t.reach[k], x)
 		}
 		t.reach[k] = max(t.reach[k], t.shaftPos[k])
+		for j := range midN {
+			t.midPos[k*midN+j] = -1
+			if m := midFirst + j; order%2 == 1 && order > 1 && int(t.start[k])+m <= len(t.pos) {
+				// The comb has order m: its midpoint lies below it.
+				x := (float64(m) - 0.5) * float64(order) * f / binHz
+				sg := matchTolerance(x)
+				t.midPos[k*midN+j], t.midInv[k*midN+j] = float32(x), float32(1/(4*sg*sg))
+			}
+		}
 	}
 	t.start[len(f0)] = int32(len(t.pos))
 	return t
@@ -229,14 +263,14 @@ func (t *combTable) salience(dst, z, pk []float32, klo, khi int) {
 		if x := t.shaftPos[k]; x >= 0 {
 			shaft = posValue(z, pk, x, t.shaftInv[k])
 		}
-		dst[k-klo] = t.score(k, v[:len(pos)], shaft)
+		dst[k-klo] = t.score(k, v[:len(pos)], shaft, z, pk)
 	}
 }
 
 // score returns S(f0[k]) − thr[k] from the values v of candidate k's comb
 // positions and shaft, the value of its shaft line (ignored where it has
-// none).
-func (t *combTable) score(k int, v []float32, shaft float32) float32 {
+// none); z and pk are the frame, for the octave-high check (midPenalty).
+func (t *combTable) score(k int, v []float32, shaft float32, z, pk []float32) float32 {
 	var s, odd, even float32
 	var nOdd, nEven int
 	ws := t.w[t.start[k]:t.start[k+1]]
@@ -258,7 +292,55 @@ func (t *combTable) score(k int, v []float32, shaft float32) float32 {
 	if t.shaftPos[k] >= 0 {
 		s += shaftLineWeight * max(0, shaft-emptyCost)
 	}
+	if s > t.thr[k] {
+		s -= t.midPenalty(k, z, pk, v)
+	}
 	return s - t.thr[k]
+}
+
+// midPenalty is the octave-high check of candidate k: the comb of twice
+// the true shaft frequency reads every second blade-pass line of the
+// rotor and leaves the others at its midpoints (m − ½)·B·f0, and its
+// shaft-line position holds the rotor's first blade-pass line; with a
+// fixed number of harmonics it can then outscore the true comb. When the
+// midpoints of orders midFirst..midLast are on average within midSlack of
+// the comb's own lines of those orders (one comb's lines, not weaker lines
+// between them: a two-blade rotor's odd shaft orders lie there too, and
+// are weaker), the candidate loses what those midpoint lines are worth, in
+// full from equal levels down to none at midSlack weaker. It is the
+// counterpart of the odd/even check of the candidate an octave lower.
+// The level difference taken is the median of the three orders', and
+// each midpoint is worth at most the comb line of its order, so that one
+// loud foreign line at a midpoint does not count; candidates whose comb
+// has fewer than midLast orders are not checked. v holds the values of
+// the comb's positions (order m at v[m−1]). Only candidates that count as
+// a motor pay it (the rest are not competing), which keeps it cheap.
+func (t *combTable) midPenalty(k int, z, pk, v []float32) float32 {
+	var d [midN]float32
+	var pay float32
+	n := 0
+	w := t.w[t.start[k]:t.start[k+1]]
+	for j := range midN {
+		x := t.midPos[k*midN+j]
+		if x < 0 {
+			break
+		}
+		m := midFirst + j
+		mv, o := posValue(z, pk, x, t.midInv[k*midN+j]), v[m-1]
+		d[n] = mv - o
+		// A midpoint line counts no more than the comb's own line beside
+		// it: one loud line there (a tone) is not another comb.
+		pay += w[m-1] * max(0, min(mv, o)-emptyCost)
+		n++
+	}
+	if n < midN || pay == 0 {
+		return 0
+	}
+	// The middle of the differences: one foreign line cannot set it.
+	a, b, c := d[0], d[1], d[2]
+	med := max(min(a, b), min(max(a, b), c))
+	g := med/midSlack + 1
+	return min(max(g, 0), 1) * pay
 }
 
 // whitener estimates a frame's noise floor; its scratch is reused.
@@ -553,6 +635,6 @@ func (sc *scatter) salience(dst, z, pk []float32, limit int) {
 		}
 	}
 	for k := range t.f0 {
-		dst[k] = t.score(k, sc.vals[t.start[k]:t.start[k+1]], sc.vals[len(t.pos)+k])
+		dst[k] = t.score(k, sc.vals[t.start[k]:t.start[k+1]], sc.vals[len(t.pos)+k], z, pk)
 	}
 }

@@ -142,7 +142,9 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     frames is then solved again on salience from which lines that are
 //     there all the time (suppressStationary) and lines that stay strong
 //     while the path is elsewhere (suppressBackground) have been taken off:
-//     fans, pumps, a second rotor, tones and hum cannot hold the track.
+//     fans, pumps, a second rotor, tones and hum cannot hold the track,
+//     and frames where the path still follows such a line (the standstill
+//     before a spin-up) are left unvoiced (dropBackgroundRuns).
 //  2. Refinement: a shorter Hann STFT sized to the speed found. In each
 //     frame the local salience picks the best candidate near the search
 //     path, and each harmonic h's peak near h times the running estimate is
@@ -159,7 +161,8 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     power centroids of the spread lines (refineMoving), and a run of
 //     samples that starts after a stretch without motor (a spin-up from
 //     standstill) is followed back on the blade-pass line
-//     (extendSpinUps).
+//     (extendSpinUps), as is the move before a jump of the track (a step
+//     whose old lines ring on in the room: followJumps).
 //  3. Checks: the comb's profile along the track tells whether another
 //     blade count fits better (a warning), corrects a clear octave error of
 //     the shaft speed (a warning), or, with Blades = 0, gives the blade
@@ -351,7 +354,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		// Voicing from the salience as it is; the path through the voiced
 		// frames from the salience with stationary lines pushed down.
 		voiced := rp.solve(sal)
-		if suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))) {
+		if stat := suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))); stat != nil {
 			rp.force = make([]int8, T)
 			for i, k := range voiced {
 				rp.force[i] = 1
@@ -363,8 +366,9 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 			// Lines that stay strong while the path is elsewhere are the
 			// background: take their level off and solve once more.
 			spread := int(math.Ceil(stationarySpread / comb.logStep))
-			if suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread) {
+			if bg := suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread); bg != nil {
 				tk.path = rp.solve(sal)
+				dropBackgroundRuns(tk.path, sal, K, stat, bg, max(1, int(math.Round(backgroundRunS*fs/float64(sc.Hop)))))
 			}
 		} else {
 			tk.path = voiced
@@ -392,10 +396,10 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 // the time-domain counterpart of whitening the spectrum: what stands out is
 // what changes.
 //
-// It reports whether it changed anything.
-func suppressStationary(sal []float32, T, K int, weight float32, spread int) bool {
+// It returns the amount taken off each candidate, nil when nothing changed.
+func suppressStationary(sal []float32, T, K int, weight float32, spread int) []float32 {
 	if T < 8 || weight == 0 {
-		return false
+		return nil
 	}
 	med := make([]float32, K)
 	col := make([]float32, T)
@@ -412,15 +416,18 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) boo
 		}
 	}
 	if slices.Max(dil) == 0 {
-		return false
+		return nil
+	}
+	for k := range dil {
+		dil[k] *= weight
 	}
 	for t := 0; t < T; t++ {
 		row := sal[t*K : (t+1)*K]
 		for k := range row {
-			row[k] -= weight * dil[k]
+			row[k] -= dil[k]
 		}
 	}
-	return true
+	return dil
 }
 
 // suppressBackground takes off each candidate's background level: the
@@ -429,9 +436,9 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) boo
 // that is strong while the path is elsewhere belongs to something else in
 // the room; the motor's own speeds are quiet when it runs at another one.
 // Candidates that the path is near in more than three quarters of the
-// voiced frames keep their level (a steady recording has no "elsewhere"). It reports
-// whether it changed anything.
-func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) bool {
+// voiced frames keep their level (a steady recording has no "elsewhere"). It
+// returns the amount taken off each candidate, nil when nothing changed.
+func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) []float32 {
 	voiced := 0
 	for _, k := range path {
 		if k >= 0 {
@@ -439,7 +446,7 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 		}
 	}
 	if voiced < 16 {
-		return false
+		return nil
 	}
 	col := make([]float32, 0, T)
 	bg := make([]float32, K)
@@ -459,7 +466,7 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 		}
 	}
 	if !any {
-		return false
+		return nil
 	}
 	dil := make([]float32, K)
 	for k := range dil {
@@ -473,7 +480,65 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 			row[k] -= dil[k]
 		}
 	}
-	return true
+	return dil
+}
+
+// backgroundRunS is the half width of the window over which
+// dropBackgroundRuns compares a path's salience before and after the
+// suppressions; backgroundKeep the share it must keep.
+const (
+	backgroundRunS = 0.25
+	backgroundKeep = 0.2
+)
+
+// dropBackgroundRuns leaves unvoiced the frames where the path follows a
+// line of the background: over the voiced frames within ±half frames, the
+// path's salience after suppressStationary and suppressBackground (sal;
+// stat and bg are what they took off each candidate) keeps less than
+// backgroundKeep of what it had before. Mains hum or another machine that
+// is there all along and holds the path while the motor stands still
+// loses all its salience to the two suppressions (it is stationary, and
+// strong while the path is elsewhere); the motor, which is quiet at its
+// speeds while it runs at others, keeps most of its own, and a motor
+// steady over the whole recording keeps 1 − stationaryWeight of it. Such
+// frames, voiced, would start the track on the hum line before a spin-up
+// and set the refinement's frame from its speed.
+func dropBackgroundRuns(path []int32, sal []float32, K int, stat, bg []float32, half int) {
+	T := len(path)
+	after := make([]float64, T+1) // prefix sums over voiced frames
+	before := make([]float64, T+1)
+	for t, k := range path {
+		after[t+1], before[t+1] = after[t], before[t]
+		if k >= 0 {
+			v := sal[t*K+int(k)]
+			after[t+1] += float64(v)
+			before[t+1] += float64(v + stat[k] + bg[k])
+		}
+	}
+	drop := make([]bool, T)
+	voiced, nd := 0, 0
+	for t, k := range path {
+		if k < 0 {
+			continue
+		}
+		voiced++
+		a, b := max(0, t-half), min(T, t+half+1)
+		if sb := before[b] - before[a]; sb > 0 && after[b]-after[a] < backgroundKeep*sb {
+			drop[t] = true
+			nd++
+		}
+	}
+	if 2*nd > voiced {
+		// Not a background line beside the motor: the path flips between
+		// two readings of one comb (the suppressions then take each
+		// reading's level off while the path is at the other).
+		return
+	}
+	for t, d := range drop {
+		if d {
+			path[t] = -1
+		}
+	}
 }
 
 type searchScratch struct {
@@ -568,7 +633,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 	nf := rc.NumFrames(len(tk.x))
 	bins := rc.Bins()
 	binHz := fs / float64(rc.FFTLen)
-	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics)
+	comb := newCombTable(tk.grid, binHz, bins, blades, combHarmonics).withoutMidCheck()
 
 	tr := &Track{Blades: max(blades, 1), TimeS: make([]float64, nf), ShaftHz: make([]float64, nf),
 		SigmaHz: make([]float64, nf), Confidence: make([]float64, nf)}
@@ -736,6 +801,9 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		return tr, nil
 	}
 	if err := tk.refineMoving(ctx, tr, rc, blades, scratch); err != nil {
+		return nil, err
+	}
+	if err := tk.followJumps(ctx, tr, rc, blades, scratch); err != nil {
 		return nil, err
 	}
 	if err := tk.extendSpinUps(ctx, tr, rc, blades, scratch); err != nil {
@@ -1108,6 +1176,163 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 			if j := i + stall; j < i0 && tr.ShaftHz[i] > tr.ShaftHz[j]*(1-spinUpStallRel) {
 				for q := i; q <= j; q++ {
 					tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = math.NaN(), math.NaN(), 0
+				}
+				break
+			}
+		}
+	}
+	return nil
+}
+
+// Jump following (followJumps).
+const (
+	// jumpRel is the least change of ln f between neighbouring samples
+	// that counts as a jump of the track.
+	jumpRel = 0.04
+	// jumpBackS is how far back from a jump the moving line is followed.
+	jumpBackS = 0.2
+	// jumpStepRel bounds the change of the speed from one frame to the one
+	// before it, going back.
+	jumpStepRel = 0.1
+	// jumpGap is the most empty samples between the two sides of a jump.
+	jumpGap = 4
+	// jumpSlack is how far the line may move the other way from one frame
+	// to the one before it (the sample after a jump is a kernel average
+	// that may lie beyond the speed at its centre).
+	jumpSlack = 0.03
+	// jumpStallS and jumpStallRel: a line followed back that moves by
+	// less than jumpStallRel over jumpStallS is not the move.
+	jumpStallS   = 0.02
+	jumpStallRel = 0.01
+)
+
+// followJumps follows the blade-pass line back from each jump of the
+// track (across at most jumpGap empty samples) towards the speed before it.
+// In a reverberant room the lines of the old speed ring on after a step,
+// and on a step down, where the new speed's lines are quieter (tonal power
+// grows about as f⁴), the ringing old line is the strongest in the frames
+// of the move: the track holds the old speed, flickers and then jumps to
+// the new one, and the move between is lost. Going back frame by frame
+// from the sample after the jump, the peak of the whitened spectrum (at
+// least refineMinZ) nearest to B·f within B·[f·(1 − jumpSlack),
+// f·(1 + jumpStepRel)] towards the old speed continues the line, f the
+// speed found in the frame after; the old speed is the farthest one of the
+// samples within jumpBackS before the jump (a flickering track passes
+// through mixtures of the two), and its line's own lobe is left out. A
+// sample that agrees with the line within a natural bin stays as it is (a
+// centroid of a moving line is the better estimate); the others take the
+// peak. It stops at a frame without a peak or jumpBackS back, and where
+// the line stalls: that part is put back as it was if the walk replaced
+// most of it (a steady line of another order or source, not a move), and
+// kept if the track already followed it there. A step up is followed alike.
+func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
+	nf := tr.Len()
+	b := float64(max(blades, 1))
+	binHz := tk.fs / float64(rc.FFTLen)
+	natBin := binHz * float64(rc.FFTLen/rc.FrameLen)
+	back := max(1, int(jumpBackS*tk.fs/float64(rc.Hop)))
+	stall := max(2, int(jumpStallS*tk.fs/float64(rc.Hop)))
+	var z, pk []float32
+	var saved [][3]float64 // the samples as they were, from i0 − 1 back
+	var kept []bool        // whether the walk left them as they were
+	for i0 := 1; i0 < nf; i0++ {
+		if !tr.Valid(i0) {
+			continue
+		}
+		// The sample before, across a gap of at most jumpGap frames.
+		p := i0 - 1
+		for p > 0 && i0-p <= jumpGap && !tr.Valid(p) {
+			p--
+		}
+		if !tr.Valid(p) {
+			continue
+		}
+		fNew := tr.ShaftHz[i0]
+		if math.Abs(math.Log(fNew/tr.ShaftHz[p])) < jumpRel {
+			continue
+		}
+		rises := fNew < tr.ShaftHz[p] // going back, the speed rises towards the old one
+		first := max(0, i0-back)
+		fOld := tr.ShaftHz[p]
+		for i := first; i < i0; i++ {
+			if tr.Valid(i) && (rises == (tr.ShaftHz[i] > fOld)) {
+				fOld = tr.ShaftHz[i]
+			}
+		}
+		fHi := math.Max(fNew, fOld) * 1.05
+		nb := min(rc.Bins()-1, int(b*fHi/binHz)+2)
+		oldLo, oldHi := b*fOld-2*natBin, b*fOld+2*natBin
+		f := fNew
+		saved, kept = saved[:0], kept[:0]
+		// Frames are whitened in chunks, going back, as the walk needs them.
+		const chunk = 16
+		c0, c1 := i0, i0 // frames [c0, c1) are in z, pk
+		for i := i0 - 1; i >= first; i-- {
+			if i < c0 {
+				c1, c0 = c0, max(first, c0-chunk)
+				if need := (c1 - c0) * nb; cap(z) < need {
+					z, pk = make([]float32, need), make([]float32, need)
+				}
+				x := tk.x[c0*rc.Hop : (c1-1)*rc.Hop+rc.FrameLen]
+				err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
+					s := &scratch[w]
+					s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
+					copy(z[k*nb:(k+1)*nb], s.z[:nb])
+					copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
+				}, nil)
+				if err != nil {
+					return fmt.Errorf("analysis: tracking: %w", err)
+				}
+			}
+			zr, pr := z[(i-c0)*nb:(i-c0+1)*nb], pk[(i-c0)*nb:(i-c0+1)*nb]
+			var lo, hi float64
+			if rises {
+				lo, hi = b*f*(1-jumpSlack), b*min(fOld, f*(1+jumpStepRel))
+			} else {
+				lo, hi = b*max(fOld, f*(1-jumpStepRel)), b*f*(1+jumpSlack)
+			}
+			kb := -1
+			for k := max(1, int(math.Floor(lo/binHz))); k <= min(nb-1, int(math.Ceil(hi/binHz))); k++ {
+				q := float64(pr[k]) * binHz
+				if pr[k] < 0 || zr[k] < refineMinZ || q < lo || q > hi || (q > oldLo && q < oldHi) {
+					continue
+				}
+				if kb < 0 || math.Abs(q-b*f) < math.Abs(float64(pr[kb])*binHz-b*f) {
+					kb = k
+				}
+			}
+			if kb < 0 {
+				break
+			}
+			fn := float64(pr[kb]) * binHz / b
+			saved = append(saved, [3]float64{tr.ShaftHz[i], tr.SigmaHz[i], tr.Confidence[i]})
+			agrees := tr.Valid(i) && math.Abs(tr.ShaftHz[i]-fn) < natBin/b
+			kept = append(kept, agrees)
+			if agrees {
+				fn = tr.ShaftHz[i]
+			} else {
+				snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
+				tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
+				tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			}
+			f = fn
+			// A line that does not move towards the old speed is not the
+			// move (another order or another source): that part is put
+			// back as it was.
+			if j := i + stall; j < i0 && math.Abs(math.Log(f/tr.ShaftHz[j])) < jumpStallRel {
+				// Where the track already followed that line, the walk has
+				// only met it (and mended what lay off it on the way).
+				n := 0
+				for q := i; q <= j; q++ {
+					if kept[i0-1-q] {
+						n++
+					}
+				}
+				if 2*n <= j-i+1 {
+					for q := i; q <= j; q++ {
+						o := saved[i0-1-q]
+						tr.ShaftHz[q], tr.SigmaHz[q], tr.Confidence[q] = o[0], o[1], o[2]
+					}
 				}
 				break
 			}
