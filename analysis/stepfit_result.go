@@ -170,7 +170,19 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	// bootstrap's is wider (rarely by much when the analytic one holds).
 	lnTau := fit.p[parLnTau]
 	tauLo, tauHi := math.Exp(lnTau-hLnTau), math.Exp(lnTau+hLnTau)
+	// Tracker lag, on the early side only: a track whose line trails the
+	// window-averaged speed near the onset only ever makes the onset look
+	// later (reverberation is causal: it mixes in only speeds already
+	// left; a line that sweeps within the frame is read where it was
+	// strongest). Such a lag cannot be told from dead time. Where the
+	// tracker itself saw the line smeared through the transition (its
+	// error estimate well above the old plateau's), the early side allows
+	// for a lag of up to a share of the window's time resolution (its
+	// kernel's standard deviation), in quadrature.
 	t0Lo, t0Hi := fit.p[parT0]-hT0, fit.p[parT0]+hT0
+	if smearedOnset(tr, p, fit.p[parT0], math.Exp(fit.p[parLnTau]), k) {
+		t0Lo = fit.p[parT0] - math.Hypot(hT0, onsetLagShare*k.sdS())
+	}
 	if cfg.Bootstrap > 0 {
 		lower, upper := fitBounds(d, opts, free)
 		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
@@ -550,6 +562,43 @@ const (
 	tauFloorRel = 0.02
 	onsetFloorS = 0.001
 )
+
+// onsetLagShare is the tracker lag the early side of the onset interval
+// allows for, in kernel standard deviations, where the line was smeared
+// through the transition: the tracker's median error estimate over the
+// first τ (at most a window span) after the onset at least smearRatio times
+// that over the plateau before the search range (see fitPlan).
+const (
+	onsetLagShare = 0.5
+	smearRatio    = 2
+)
+
+// smearedOnset reports whether the tracker's error estimates through the
+// transition after onset t0 are at least smearRatio times those before the
+// step's search range.
+func smearedOnset(tr *Track, p *stepPlan, t0, tau float64, k *fopdtKernel) bool {
+	if len(tr.SigmaHz) != tr.Len() {
+		return false
+	}
+	var pre, at []float64
+	end := t0 + math.Min(tau, k.spanS())
+	for i, t := range tr.TimeS {
+		s := tr.SigmaHz[i]
+		if !tr.Valid(i) || !(s > 0) || math.IsInf(s, 0) {
+			continue
+		}
+		if t >= p.fromS && t < p.onsetLo {
+			pre = append(pre, s)
+		}
+		if t >= t0 && t <= end {
+			at = append(at, s)
+		}
+	}
+	if len(pre) < 4 || len(at) < 2 {
+		return false
+	}
+	return median(at) >= smearRatio*median(pre)
+}
 
 // fitBounds returns the bounds Levenberg–Marquardt keeps the free
 // parameters in: the onset within its search range (not before the command),

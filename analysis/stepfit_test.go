@@ -298,3 +298,26 @@ func TestEarlyDeparture(t *testing.T) {
 		}
 	}
 }
+
+// TestSmearedOnset: the lag allowance is read from the tracker's own error
+// estimates, flat on an invented track and raised through a transition the
+// tracker saw smeared.
+func TestSmearedOnset(t *testing.T) {
+	st := synthStep{commandS: 0.4, deadS: 0.005, tauS: 0.04, toHz: 260}
+	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1, startHz: 200, steps: []synthStep{st}, noiseHz: 0.3}
+	tr := spec.track(rand.New(rand.NewPCG(3, 4)))
+	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
+	p := &stepPlan{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1, fromS: 0.2, toS: 0.8}
+	t0 := st.commandS + st.deadS
+	if smearedOnset(tr, p, t0, st.tauS, &k) {
+		t.Error("flat error estimates taken for a smeared transition")
+	}
+	for i, ts := range tr.TimeS {
+		if ts >= t0 && ts <= t0+st.tauS {
+			tr.SigmaHz[i] *= 3
+		}
+	}
+	if !smearedOnset(tr, p, t0, st.tauS, &k) {
+		t.Error("error estimates three times the plateau's not taken for a smeared transition")
+	}
+}
