@@ -154,10 +154,31 @@ func onsetIndicators(tr *analysis.Track, r analysis.StepResult, cmd float64) str
 			}
 		}
 	}
+	var tc, ps, tsd []float64
+	for i, ts := range tr.TimeS {
+		if !tr.Valid(i) {
+			continue
+		}
+		if ts >= t0 && ts <= t0+math.Min(tau, 0.05) {
+			tc = append(tc, tr.Confidence[i])
+			tsd = append(tsd, tr.SigmaHz[i])
+		}
+		if ts >= cmd-0.1 && ts < cmd {
+			ps = append(ps, tr.SigmaHz[i])
+		}
+	}
+	med := func(x []float64) float64 {
+		if len(x) == 0 {
+			return math.NaN()
+		}
+		slices.Sort(x)
+		return x[len(x)/2]
+	}
+	extra := fmt.Sprintf(" tconf %.2f sdratio %.2f", med(tc), med(tsd)/med(ps))
 	pc := math.NaN()
 	if len(plat) > 0 {
 		slices.Sort(plat)
 		pc = plat[len(plat)/2]
 	}
-	return fmt.Sprintf("span %.1f ms jump %.2f conf %.2f/%.2f dep %.1f ms", 1e3*span, maxJ/math.Max(maxM, 1e-9), minConf, pc, 1e3*(dep-t0))
+	return fmt.Sprintf("span %.1f ms jump %.2f conf %.2f/%.2f dep %.1f ms", 1e3*span, maxJ/math.Max(maxM, 1e-9), minConf, pc, 1e3*(dep-t0)) + extra
 }
