@@ -170,7 +170,19 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	// bootstrap's is wider (rarely by much when the analytic one holds).
 	lnTau := fit.p[parLnTau]
 	tauLo, tauHi := math.Exp(lnTau-hLnTau), math.Exp(lnTau+hLnTau)
+	// Tracker lag, on the early side only: a track whose line trails the
+	// window-averaged speed near the onset only ever makes the onset look
+	// later (reverberation is causal: it mixes in only speeds already
+	// left; a line that sweeps within the frame is read where it was
+	// strongest). Such a lag cannot be told from dead time. Where the
+	// tracker itself saw the line smeared through the transition (its
+	// error estimate well above the old plateau's), the early side allows
+	// for a lag of up to a share of the window's time resolution (its
+	// kernel's standard deviation), in quadrature.
 	t0Lo, t0Hi := fit.p[parT0]-hT0, fit.p[parT0]+hT0
+	if smearedOnset(tr, p, fit.p[parT0], math.Exp(fit.p[parLnTau]), k) {
+		t0Lo = fit.p[parT0] - math.Hypot(hT0, onsetLagShare*k.sdS())
+	}
 	if cfg.Bootstrap > 0 {
 		lower, upper := fitBounds(d, opts, free)
 		scale := math.Sqrt(cc.scale * float64(d.n()) / math.Max(fit.rss, 1e-300))
@@ -247,6 +259,16 @@ func fitPlan(tr *Track, k *fopdtKernel, hop float64, p *stepPlan, cfg StepConfig
 	if st, s0 := fit.smith[0], fit.smith[1]; smithDisagrees(st, math.Exp(lnTau), k) {
 		tauLo, tauHi = math.Min(tauLo, st), math.Max(tauHi, st)
 		t0Lo, t0Hi = math.Min(t0Lo, s0), math.Max(t0Hi, s0)
+	}
+	// Departure check: the track leaving the old level before the fitted
+	// curve can (a stretch of lag, a tracker that stalled on the old or an
+	// intermediate line and so pulled the fitted onset late) means the
+	// onset may be as early as the one that lets the curve depart with the
+	// track; the interval covers that reading too. It is one-sided: a
+	// track that departs late (held by reverberation) says nothing here.
+	if s := earlyDeparture(tr, fit, p, k, hop); s > 0 {
+		t0Lo = math.Min(t0Lo, fit.p[parT0]-s-hT0)
+		notes = append(notes, fmt.Sprintf("the track leaves the old speed %.1f ms before the fitted curve can; the onset interval covers an onset that much earlier", 1e3*s))
 	}
 	// A step the track shows as a jump (τ at the bottom of its range), or
 	// whose onset ran to the end of its search, could have begun any time
@@ -541,6 +563,43 @@ const (
 	onsetFloorS = 0.001
 )
 
+// onsetLagShare is the tracker lag the early side of the onset interval
+// allows for, in kernel standard deviations, where the line was smeared
+// through the transition: the tracker's median error estimate over the
+// first τ (at most a window span) after the onset at least smearRatio times
+// that over the plateau before the search range (see fitPlan).
+const (
+	onsetLagShare = 0.5
+	smearRatio    = 2
+)
+
+// smearedOnset reports whether the tracker's error estimates through the
+// transition after onset t0 are at least smearRatio times those before the
+// step's search range.
+func smearedOnset(tr *Track, p *stepPlan, t0, tau float64, k *fopdtKernel) bool {
+	if len(tr.SigmaHz) != tr.Len() {
+		return false
+	}
+	var pre, at []float64
+	end := t0 + math.Min(tau, k.spanS())
+	for i, t := range tr.TimeS {
+		s := tr.SigmaHz[i]
+		if !tr.Valid(i) || !(s > 0) || math.IsInf(s, 0) {
+			continue
+		}
+		if t >= p.fromS && t < p.onsetLo {
+			pre = append(pre, s)
+		}
+		if t >= t0 && t <= end {
+			at = append(at, s)
+		}
+	}
+	if len(pre) < 4 || len(at) < 2 {
+		return false
+	}
+	return median(at) >= smearRatio*median(pre)
+}
+
 // fitBounds returns the bounds Levenberg–Marquardt keeps the free
 // parameters in: the onset within its search range (not before the command),
 // τ within the search range.
@@ -733,4 +792,96 @@ func (d *stepData) dropBeyondK(e []float64, limit int, floor, k float64) int {
 	}
 	d.t, d.y, d.sw, d.idx = d.t[:keep], d.y[:keep], d.sw[:keep], d.idx[:keep]
 	return len(bad)
+}
+
+// Departure check: the track departs where it goes, and stays until the
+// fitted curve departs (one sample excepted), departNoiseK noise standard
+// deviations beyond the old level in the step's direction, over at least
+// departK samples. The curve departs where it is departModelK deviations
+// beyond: a track that rises slowly out of its noise crosses the higher
+// limit early by chance, before the curve itself reaches it, and the
+// check must not take that for an early onset.
+const (
+	departK      = 3
+	departNoiseK = 3
+	departModelK = 1
+)
+
+// earlyDeparture returns how much earlier than the fitted seen curve the
+// track leaves the old level for good (s), or 0 when it does not do so by
+// more than a hop. Both are read against the same per-sample noise (the
+// larger of the tracker's error estimate and the robust spread of the
+// samples before the search range), from the start of the search range
+// less the kernel's reach.
+func earlyDeparture(tr *Track, fit *stepFitOut, p *stepPlan, k *fopdtKernel, hop float64) float64 {
+	r0, dl, t0 := fit.p[parR0], fit.p[parDelta], fit.p[parT0]
+	if !(math.Abs(dl) > 0) || len(tr.SigmaHz) != tr.Len() {
+		return 0
+	}
+	sg := math.Copysign(1, dl)
+	from := p.onsetLo + k.left
+	var pre []float64
+	for i, t := range tr.TimeS {
+		if t >= p.fromS && t < from && tr.Valid(i) {
+			pre = append(pre, tr.ShaftHz[i])
+		}
+	}
+	// The spread of the old level itself (median absolute deviation): the
+	// track's errors are correlated over a window, so its level wanders
+	// further than sample-to-sample noise suggests.
+	floor := 0.0
+	if len(pre) >= 8 {
+		m := median(pre)
+		for i := range pre {
+			pre[i] = math.Abs(pre[i] - m)
+		}
+		floor = 1.4826 * median(pre)
+	}
+	lim := func(i int) float64 { return departNoiseK * math.Max(tr.SigmaHz[i], floor) }
+	// The fitted curve's departure (it is monotone: the first run).
+	ft := k.prepare(math.Exp(fit.p[parLnTau]))
+	modelDep, last := math.NaN(), -1
+	run := 0
+	var start float64
+	for i, t := range tr.TimeS {
+		if t < from || t > p.toS || !tr.Valid(i) || !(lim(i) > 0) {
+			continue
+		}
+		if sg*dl*k.seenG(t-t0, &ft) <= lim(i)*departModelK/departNoiseK {
+			run = 0
+			last = i
+			continue
+		}
+		if run == 0 {
+			start = t
+		}
+		if run++; run == departK {
+			modelDep = start
+			break
+		}
+	}
+	if math.IsNaN(modelDep) || last < 0 {
+		return 0
+	}
+	// The track's: the run of samples beyond the limit that reaches the
+	// last one before the curve departs.
+	n, misses := 0, 0
+	trackDep := math.NaN()
+	for i := last; i >= 0 && tr.TimeS[i] >= from; i-- {
+		if tr.Valid(i) && lim(i) > 0 && sg*(tr.ShaftHz[i]-r0) > lim(i) {
+			n++
+			trackDep = tr.TimeS[i]
+			continue
+		}
+		if misses++; misses > 1 {
+			break
+		}
+	}
+	if n < departK {
+		return 0
+	}
+	if s := modelDep - trackDep; s > hop {
+		return s
+	}
+	return 0
 }

@@ -279,3 +279,45 @@ func TestBootstrapCrossCheck(t *testing.T) {
 		t.Errorf("bootstrap ran on %d of %d trials and covered %d; want at least half run and ≥ 80 %% covered", ran, trials, inB)
 	}
 }
+
+// TestEarlyDeparture: the departure check says nothing of a fit whose onset
+// is right or early, and flags one placed late by most of its lateness.
+func TestEarlyDeparture(t *testing.T) {
+	st := synthStep{commandS: 0.4, deadS: 0.005, tauS: 0.04, toHz: 260}
+	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1, startHz: 200, steps: []synthStep{st}, noiseHz: 0.3}
+	tr := spec.track(rand.New(rand.NewPCG(3, 4)))
+	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
+	p := &stepPlan{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1, fromS: 0.2, toS: 0.8}
+	for _, c := range []struct {
+		lateS, lo, hi float64
+	}{{0, 0, 0}, {-0.01, 0, 0}, {0.015, 0.008, 0.02}, {0.03, 0.02, 0.035}} {
+		fit := &stepFitOut{p: [numPar]float64{200, 60, st.commandS + st.deadS + c.lateS, math.Log(st.tauS)}}
+		s := earlyDeparture(tr, fit, p, &k, spec.hopS)
+		if s < c.lo || s > c.hi {
+			t.Errorf("onset %.0f ms late: early departure %.1f ms, want %.0f–%.0f ms", 1e3*c.lateS, 1e3*s, 1e3*c.lo, 1e3*c.hi)
+		}
+	}
+}
+
+// TestSmearedOnset: the lag allowance is read from the tracker's own error
+// estimates, flat on an invented track and raised through a transition the
+// tracker saw smeared.
+func TestSmearedOnset(t *testing.T) {
+	st := synthStep{commandS: 0.4, deadS: 0.005, tauS: 0.04, toHz: 260}
+	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1, startHz: 200, steps: []synthStep{st}, noiseHz: 0.3}
+	tr := spec.track(rand.New(rand.NewPCG(3, 4)))
+	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
+	p := &stepPlan{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1, fromS: 0.2, toS: 0.8}
+	t0 := st.commandS + st.deadS
+	if smearedOnset(tr, p, t0, st.tauS, &k) {
+		t.Error("flat error estimates taken for a smeared transition")
+	}
+	for i, ts := range tr.TimeS {
+		if ts >= t0 && ts <= t0+st.tauS {
+			tr.SigmaHz[i] *= 3
+		}
+	}
+	if !smearedOnset(tr, p, t0, st.tauS, &k) {
+		t.Error("error estimates three times the plateau's not taken for a smeared transition")
+	}
+}

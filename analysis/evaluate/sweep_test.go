@@ -35,6 +35,9 @@ type stepScore struct {
 	hasTheta          bool
 	direction         string
 	tau, trueTau, snr float64
+	// 95 % half-widths: τ relative (half the interval over the estimate),
+	// θ in seconds.
+	tauHalf, thetaHalf float64
 }
 
 func decodeCase(t *testing.T, i int, c synth.Case, chans [][]float32) (*dsp.Audio, error) {
@@ -125,12 +128,14 @@ func score(c synth.Case, rep *analysis.Report, withCommands bool) (ss []stepScor
 			s.tau = r.TauS.Value
 			s.tauErr = math.Abs(r.TauS.Value-st.TauS) / st.TauS
 			s.tauCovered = r.TauS.CI95[0] <= st.TauS && st.TauS <= r.TauS.CI95[1]
+			s.tauHalf = (r.TauS.CI95[1] - r.TauS.CI95[0]) / 2 / r.TauS.Value
 			trueAfter := analysis.RPM(st.TargetHz)
 			s.rpmErr = math.Abs(r.RPMAfter.Value-trueAfter) / trueAfter
 			if r.DeadTimeS != nil {
 				s.hasTheta = true
 				s.thetaErrS = math.Abs(r.DeadTimeS.Value - st.DeadS)
 				s.thetaCovered = r.DeadTimeS.CI95[0] <= st.DeadS && st.DeadS <= r.DeadTimeS.CI95[1]
+				s.thetaHalf = (r.DeadTimeS.CI95[1] - r.DeadTimeS.CI95[0]) / 2
 			}
 		}
 		ss = append(ss, s)
@@ -166,7 +171,7 @@ func TestSweep(t *testing.T) {
 	}
 	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
 	opts := synth.DefaultRandomOptions()
-	var tauErr, thetaErr, rpmErr []float64
+	var tauErr, thetaErr, rpmErr, tauHalf, thetaHalf []float64
 	var found, total, falseSteps, covTau, covTheta, nTheta int
 	var foundDet, falseDet int
 	for i := range *evalN {
@@ -205,6 +210,7 @@ func TestSweep(t *testing.T) {
 			}
 			found++
 			tauErr = append(tauErr, s.tauErr)
+			tauHalf = append(tauHalf, s.tauHalf)
 			rpmErr = append(rpmErr, s.rpmErr)
 			if s.tauCovered {
 				covTau++
@@ -212,6 +218,7 @@ func TestSweep(t *testing.T) {
 			if s.hasTheta {
 				nTheta++
 				thetaErr = append(thetaErr, s.thetaErrS)
+				thetaHalf = append(thetaHalf, s.thetaHalf)
 				if s.thetaCovered {
 					covTheta++
 				}
@@ -235,6 +242,7 @@ func TestSweep(t *testing.T) {
 	t.Logf("|θ error|: median %.2f ms (goal ≤ 2 ms)", 1e3*quantile(thetaErr, 0.5))
 	t.Logf("rpm error after the step: median %.3f %%, max %.3f %% (goal ≤ 0.5 %%)", 100*quantile(rpmErr, 0.5), 100*quantile(rpmErr, 1))
 	t.Logf("95 %% interval coverage: τ %.1f %% of %d, θ %.1f %% of %d (goal 90–98 %%)", 100*float64(covTau)/float64(found), found, 100*float64(covTheta)/float64(max(nTheta, 1)), nTheta)
+	t.Logf("95 %% interval half-widths: median τ %.1f %% of the estimate, θ %.2f ms", 100*quantile(tauHalf, 0.5), 1e3*quantile(thetaHalf, 0.5))
 
 	// Regression guards: the held-out goals where a sweep of this size can
 	// show them (medians), looser bounds where a few hard cases dominate.
