@@ -71,6 +71,12 @@ const (
 	midFirst = 2
 	midLast  = 4
 	midSlack = 1.0
+	// midLowOrders is the highest of a rotor's low shaft orders (the
+	// imbalance line and its first harmonics, often strong; common
+	// practice): the check runs only for blade counts whose midpoints all lie
+	// above them (B ≥ 3; with two blades the first midpoint is the third
+	// shaft order of the true comb).
+	midLowOrders = 3
 )
 
 var floorScale = float32(1 / -math.Log(1-floorQuantile))
@@ -229,7 +235,7 @@ func newCombTable(f0 []float64, binHz float64, bins, order, count int) *combTabl
 		t.reach[k] = max(t.reach[k], t.shaftPos[k])
 		for j := range midN {
 			t.midPos[k*midN+j] = -1
-			if m := midFirst + j; order%2 == 1 && order > 1 && int(t.start[k])+m <= len(t.pos) {
+			if m := midFirst + j; float64(order)*(midFirst-0.5) > midLowOrders && int(t.start[k])+m <= len(t.pos) {
 				// The comb has order m: its midpoint lies below it.
 				x := (float64(m) - 0.5) * float64(order) * f / binHz
 				sg := matchTolerance(x)
@@ -309,6 +315,11 @@ func (t *combTable) score(k int, v []float32, shaft float32, z, pk []float32) fl
 // are weaker), the candidate loses what those midpoint lines are worth, in
 // full from equal levels down to none at midSlack weaker. It is the
 // counterpart of the odd/even check of the candidate an octave lower.
+// Only combs of three blades or more are checked: a true comb's midpoints
+// then lie at shaft orders (m − ½)·B ≥ 4.5, above the low shaft orders
+// (midLowOrders) that can be as strong as the blade-pass lines; with two
+// blades they are the orders 3, 5, 7 and can hold the imbalance line's
+// harmonics.
 // The level difference taken is the median of the three orders', and
 // each midpoint is worth at most the comb line of its order, so that one
 // loud foreign line at a midpoint does not count; candidates whose comb
