@@ -21,7 +21,7 @@ import (
 // the path jump at a step (one cost, however fast) but makes a detour to a
 // passing line and back cost twice. Each frame costs O(K): the windowed
 // maximum of J(j) − λ|k − j| is split into its two one-sided halves, each a
-// sliding-window maximum kept in a monotone deque.
+// sliding-window maximum (predecessors).
 //
 // The result holds the chosen candidate per frame, −1 for unvoiced.
 type ridgePath struct {
@@ -50,7 +50,6 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 	best := make([]float32, K) // best predecessor value for each k
 	arg := make([]int32, K)
 	dq := make([]int32, K)
-	lam := r.lambda
 	negInf := float32(math.Inf(-1))
 
 	copy(prev, sal[:K])
@@ -66,45 +65,7 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 		}
 	}
 	for t := 1; t < T; t++ {
-		for k := range best {
-			best[k], arg[k] = negInf, -1
-		}
-		// Left half: j ≤ k, value prev[j] + λj, window j ≥ k − maxJump[k].
-		h, n := 0, 0
-		for k := 0; k < K; k++ {
-			v := prev[k] + lam*float32(k)
-			for n > h && prev[dq[n-1]]+lam*float32(dq[n-1]) <= v {
-				n--
-			}
-			dq[n] = int32(k)
-			n++
-			lo := int32(k) - r.maxJump[k]
-			for dq[h] < lo {
-				h++
-			}
-			j := dq[h]
-			if b := prev[j] - lam*float32(int32(k)-j); b > best[k] {
-				best[k], arg[k] = b, j
-			}
-		}
-		// Right half: j ≥ k, value prev[j] − λj, window j ≤ k + maxJump[k].
-		h, n = 0, 0
-		for k := K - 1; k >= 0; k-- {
-			v := prev[k] - lam*float32(k)
-			for n > h && prev[dq[n-1]]-lam*float32(dq[n-1]) <= v {
-				n--
-			}
-			dq[n] = int32(k)
-			n++
-			hi := int32(k) + r.maxJump[k]
-			for dq[h] > hi {
-				h++
-			}
-			j := dq[h]
-			if b := prev[j] - lam*float32(j-int32(k)); b > best[k] {
-				best[k], arg[k] = b, j
-			}
-		}
+		r.predecessors(prev, best, arg, dq)
 		// Unvoiced predecessor, and the best voiced state for the next
 		// unvoiced frame.
 		bestV, argV := negInf, int32(-1)
@@ -168,4 +129,85 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 		}
 	}
 	return path
+}
+
+// predecessors writes, for each state k, the best voiced predecessor value
+// best[k] = max over j within maxJump of prev[j] − λ|k − j| and its j
+// (arg[k]); dq is scratch of K entries.
+//
+// Each half (j ≤ k, then j ≥ k) is a sliding-window maximum of
+// prev[j] ± λj, kept in a monotone deque. The best j over the whole half
+// (a running maximum, the latest of equals as the deque keeps it) is the
+// best in the window whenever it lies in the window, which is nearly
+// always so: the deque runs only for a frame where it does not, from the
+// start (the values the shortcut wrote before it stopped are the deque's
+// too, and its strict comparisons leave them).
+func (r *ridgePath) predecessors(prev, best []float32, arg, dq []int32) {
+	K, lam := len(prev), r.lambda
+	negInf := float32(math.Inf(-1))
+	for k := range best {
+		best[k], arg[k] = negInf, -1
+	}
+	// Left half: j ≤ k, value prev[j] + λj, window j ≥ k − maxJump[k].
+	fast := true
+	for k, a := 0, int32(0); k < K; k++ {
+		if prev[k]+lam*float32(k) >= prev[a]+lam*float32(a) {
+			a = int32(k)
+		}
+		if int32(k)-a > r.maxJump[k] {
+			fast = false
+			break
+		}
+		if b := prev[a] - lam*float32(int32(k)-a); b > best[k] {
+			best[k], arg[k] = b, a
+		}
+	}
+	h, n := 0, 0
+	for k := 0; k < K && !fast; k++ {
+		v := prev[k] + lam*float32(k)
+		for n > h && prev[dq[n-1]]+lam*float32(dq[n-1]) <= v {
+			n--
+		}
+		dq[n] = int32(k)
+		n++
+		lo := int32(k) - r.maxJump[k]
+		for dq[h] < lo {
+			h++
+		}
+		j := dq[h]
+		if b := prev[j] - lam*float32(int32(k)-j); b > best[k] {
+			best[k], arg[k] = b, j
+		}
+	}
+	// Right half: j ≥ k, value prev[j] − λj, window j ≤ k + maxJump[k].
+	fast = true
+	for k, a := K-1, int32(K-1); k >= 0; k-- {
+		if prev[k]-lam*float32(k) >= prev[a]-lam*float32(a) {
+			a = int32(k)
+		}
+		if a-int32(k) > r.maxJump[k] {
+			fast = false
+			break
+		}
+		if b := prev[a] - lam*float32(a-int32(k)); b > best[k] {
+			best[k], arg[k] = b, a
+		}
+	}
+	h, n = 0, 0
+	for k := K - 1; k >= 0 && !fast; k-- {
+		v := prev[k] - lam*float32(k)
+		for n > h && prev[dq[n-1]]-lam*float32(dq[n-1]) <= v {
+			n--
+		}
+		dq[n] = int32(k)
+		n++
+		hi := int32(k) + r.maxJump[k]
+		for dq[h] > hi {
+			h++
+		}
+		j := dq[h]
+		if b := prev[j] - lam*float32(j-int32(k)); b > best[k] {
+			best[k], arg[k] = b, j
+		}
+	}
 }
