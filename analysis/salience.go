@@ -500,37 +500,6 @@ func smallestK(x []float32, k int, buf []float32) float32 {
 	return top[k]
 }
 
-// selectK returns the k-th smallest element of x (0-based), reordering x
-// (Hoare's selection, in place, no allocation).
-func selectK(x []float32, k int) float32 {
-	lo, hi := 0, len(x)-1
-	for lo < hi {
-		p := x[(lo+hi)/2]
-		i, j := lo, hi
-		for i <= j {
-			for x[i] < p {
-				i++
-			}
-			for x[j] > p {
-				j--
-			}
-			if i <= j {
-				x[i], x[j] = x[j], x[i]
-				i++
-				j--
-			}
-		}
-		if k <= j {
-			hi = j
-		} else if k >= i {
-			lo = i
-		} else {
-			return x[k]
-		}
-	}
-	return x[k]
-}
-
 // scatter is the search pass's form of combTable.salience over every
 // candidate: instead of reading three bins at each of the candidates'
 // comb positions, it visits the frame's peaks and updates the positions

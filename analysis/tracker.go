@@ -4,7 +4,9 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
+	"sync"
 
 	"whirlfit/dsp"
 )
@@ -401,13 +403,9 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) []f
 	if T < 8 || weight == 0 {
 		return nil
 	}
-	med := make([]float32, K)
-	col := make([]float32, T)
-	for k := 0; k < K; k++ {
-		for t := 0; t < T; t++ {
-			col[t] = sal[t*K+k]
-		}
-		med[k] = max(0, selectK(col, T/2))
+	med, _ := columnMedians(sal, T, K, nil)
+	for k := range med {
+		med[k] = max(0, med[k])
 	}
 	dil := make([]float32, K)
 	for k := range dil {
@@ -430,6 +428,52 @@ func suppressStationary(sal []float32, T, K int, weight float32, spread int) []f
 	return dil
 }
 
+// columnMedians returns, for each candidate k, the median (element n/2 in
+// order) of its salience over the frames t of sal (frames × K) for which
+// keep(t, k) holds (every frame when keep is nil), and that count n. The
+// columns are gathered a block at a time — one cache line of every row
+// serves a block of columns, where gathering one column reads a line per
+// frame — and the blocks are shared among the cores.
+func columnMedians(sal []float32, T, K int, keep func(t, k int) bool) (med []float32, n []int) {
+	const block = 16
+	med, n = make([]float32, K), make([]int, K)
+	nb := (K + block - 1) / block
+	next := make(chan int, nb)
+	for b := range nb {
+		next <- b
+	}
+	close(next)
+	var wg sync.WaitGroup
+	for range min(nb, runtime.GOMAXPROCS(0)) {
+		wg.Go(func() {
+			cols := make([]float32, block*T)
+			var cnt [block]int
+			for b := range next {
+				k0 := b * block
+				w := min(block, K-k0)
+				cnt = [block]int{}
+				for t := 0; t < T; t++ {
+					row := sal[t*K+k0 : t*K+k0+w]
+					for j, v := range row {
+						if keep == nil || keep(t, k0+j) {
+							cols[j*T+cnt[j]] = v
+							cnt[j]++
+						}
+					}
+				}
+				for j := range w {
+					n[k0+j] = cnt[j]
+					if cnt[j] > 0 {
+						med[k0+j] = dsp.SelectK(cols[j*T:j*T+cnt[j]], cnt[j]/2)
+					}
+				}
+			}
+		})
+	}
+	wg.Wait()
+	return med, n
+}
+
 // suppressBackground takes off each candidate's background level: the
 // median of its salience over the voiced frames in which the path lies more
 // than far candidates away (where positive, dilated over ±spread). A line
@@ -448,21 +492,15 @@ func suppressBackground(sal []float32, T, K int, path []int32, far, spread int) 
 	if voiced < 16 {
 		return nil
 	}
-	col := make([]float32, 0, T)
+	med, n := columnMedians(sal, T, K, func(t, k int) bool {
+		p := int(path[t])
+		return p >= 0 && (p < k-far || p > k+far)
+	})
 	bg := make([]float32, K)
 	any := false
-	for k := 0; k < K; k++ {
-		col = col[:0]
-		for t, p := range path {
-			if p >= 0 && (int(p) < k-far || int(p) > k+far) {
-				col = append(col, sal[t*K+k])
-			}
-		}
-		if 4*len(col) < voiced {
-			continue
-		}
-		if m := selectK(col, len(col)/2); m > 0 {
-			bg[k], any = m, true
+	for k := range bg {
+		if 4*n[k] >= voiced && med[k] > 0 {
+			bg[k], any = med[k], true
 		}
 	}
 	if !any {

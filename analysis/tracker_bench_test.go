@@ -195,7 +195,7 @@ func BenchmarkScatterSalienceFrame(b *testing.B) {
 	}
 }
 
-// smallestK agrees with selectK (and so with a sort) on random blocks,
+// smallestK agrees with dsp.SelectK (and so with a sort) on random blocks,
 // ties included.
 func TestSmallestK(t *testing.T) {
 	rng := rand.New(rand.NewPCG(2, 2))
@@ -215,9 +215,37 @@ func TestSmallestK(t *testing.T) {
 		if !slices.Equal(x, orig) {
 			t.Fatal("smallestK changed its input")
 		}
-		want := selectK(slices.Clone(x), k)
+		want := dsp.SelectK(slices.Clone(x), k)
 		if got != want {
-			t.Fatalf("n %d k %d: smallestK %g, selectK %g", n, k, got, want)
+			t.Fatalf("n %d k %d: smallestK %g, SelectK %g", n, k, got, want)
+		}
+	}
+}
+
+// columnMedians agrees with gathering each column and selecting its
+// median, with and without a frame filter.
+func TestColumnMedians(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	const T, K = 257, 83
+	sal := make([]float32, T*K)
+	for i := range sal {
+		sal[i] = float32(rng.NormFloat64())
+	}
+	for _, keep := range []func(t, k int) bool{nil, func(t, k int) bool { return (t+k)%3 != 0 && k != 5 }} {
+		med, n := columnMedians(sal, T, K, keep)
+		for k := 0; k < K; k++ {
+			var col []float32
+			for t := 0; t < T; t++ {
+				if keep == nil || keep(t, k) {
+					col = append(col, sal[t*K+k])
+				}
+			}
+			if n[k] != len(col) {
+				t.Fatalf("column %d: count %d, want %d", k, n[k], len(col))
+			}
+			if len(col) > 0 && med[k] != dsp.SelectK(col, len(col)/2) {
+				t.Fatalf("column %d: median %g, want %g", k, med[k], dsp.SelectK(col, len(col)/2))
+			}
 		}
 	}
 }

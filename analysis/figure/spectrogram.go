@@ -263,9 +263,9 @@ func levelRange(s *dsp.Spectrogram, fTop, ref float64) (lo, hi float64) {
 	for fr := 0; fr < s.Frames; fr += frStride {
 		vals = append(vals, s.Row(fr)[:kTop]...)
 	}
-	slices.Sort(vals)
+	// Two order statistics, not a sort: the values a sort would put there.
 	q := func(p float64) float64 {
-		m := float64(vals[int(p*float64(len(vals)-1))])
+		m := float64(dsp.SelectK(vals, int(p*float64(len(vals)-1))))
 		return 20 * math.Log10(max(m, 1e-12)/ref)
 	}
 	lo, hi = q(viewPctLo), q(viewPctHi)
