@@ -326,11 +326,14 @@ func previewSpectrogram(ctx context.Context, a *dsp.Audio) (*dsp.Spectrogram, er
 	if err != nil {
 		return nil, err
 	}
-	r, err := dsp.NewReducer(dsp.STFTConfig{}, sig.SampleRate, len(sig.Samples), previewFrames)
+	// No more frames than the preview keeps: a long recording's hop grows
+	// instead of its frames being reduced afterwards.
+	cfg := dsp.STFTConfig{}.Resolve(sig.SampleRate)
+	cfg.Hop = max(cfg.Hop, len(sig.Samples)/previewFrames)
+	r, err := dsp.NewReducer(cfg, sig.SampleRate, len(sig.Samples), previewFrames)
 	if err != nil {
 		return nil, err
 	}
-	cfg := dsp.STFTConfig{}.Resolve(sig.SampleRate)
 	if err := cfg.Process(ctx, sig.Samples, sig.SampleRate, r.Frame, nil); err != nil {
 		return nil, err
 	}
