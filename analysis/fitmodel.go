@@ -199,25 +199,30 @@ type fopdtTau struct {
 
 func (k *fopdtKernel) prepare(tau float64) fopdtTau {
 	ft := fopdtTau{tau: tau}
+	// The bins are contiguous and nearly all of one width, so most of the
+	// exponentials below repeat an argument already seen: each is taken
+	// once (the values are those computed afresh, bit for bit).
+	var ex, exm memo
 	for j := range k.w {
 		al := k.a[j] - k.left
 		be := k.b[j] - k.left
 		h := be - al
-		ea := math.Exp(-al / tau)
-		eb := math.Exp(-be / tau)
+		ea := ex.of(-al/tau, math.Exp)
+		eb := ex.of(-be/tau, math.Exp)
 		// τ(e^{−α/τ} − e^{−β/τ})/h, written with expm1 for narrow bins.
-		d := -ea * math.Expm1(-h/tau)
+		d := -ea * exm.of(-h/tau, math.Expm1)
 		ft.c += k.w[j] * tau * d / h
 		ft.dcdt += k.w[j] / h * (d + (al*ea-be*eb)/tau)
 	}
 	n := len(k.w)
+	var er memo
 	for j := n - 1; j >= 0; j-- {
 		c := k.coef[j]
 		ft.ea[j], ft.fa[j] = c, c*k.a[j]
 		ft.eb[j], ft.fb[j] = c, c*k.b[j]
 		if j+1 < n {
-			ra := math.Exp(-(k.a[j+1] - k.a[j]) / tau)
-			rb := math.Exp(-(k.b[j+1] - k.b[j]) / tau)
+			ra := er.of(-(k.a[j+1]-k.a[j])/tau, math.Exp)
+			rb := er.of(-(k.b[j+1]-k.b[j])/tau, math.Exp)
 			ft.ea[j] += ra * ft.ea[j+1]
 			ft.fa[j] += ra * ft.fa[j+1]
 			ft.eb[j] += rb * ft.eb[j+1]
@@ -225,6 +230,27 @@ func (k *fopdtKernel) prepare(tau float64) fopdtTau {
 		}
 	}
 	return ft
+}
+
+// memo remembers the last few values of a function by their argument.
+type memo struct {
+	x, v [4]float64
+	n    int // entries filled
+	next int // the one replaced next
+}
+
+// of returns f(x), from memory when x was one of the last arguments.
+func (m *memo) of(x float64, f func(float64) float64) float64 {
+	for i := range m.n {
+		if m.x[i] == x {
+			return m.v[i]
+		}
+	}
+	v := f(x)
+	m.x[m.next], m.v[m.next] = x, v
+	m.next = (m.next + 1) % len(m.x)
+	m.n = min(m.n+1, len(m.x))
+	return v
 }
 
 // edgeSums returns, for the edges x (increasing) with suffix sums C, X and
