@@ -1129,6 +1129,26 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 	return nil
 }
 
+// whitenFrames whitens refinement frames [from, to) below nb+1 bins and
+// writes each one's first nb bins of z and peak positions, frame after
+// frame, into z and pk (grown when short, and returned).
+func (tk *tracker) whitenFrames(ctx context.Context, rc dsp.STFTConfig, scratch []refineScratch, from, to, nb int, z, pk []float32) ([]float32, []float32, error) {
+	if need := (to - from) * nb; cap(z) < need {
+		z, pk = make([]float32, need), make([]float32, need)
+	}
+	x := tk.x[from*rc.Hop : (to-1)*rc.Hop+rc.FrameLen]
+	err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
+		s := &scratch[w]
+		s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
+		copy(z[k*nb:(k+1)*nb], s.z[:nb])
+		copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
+	}, nil)
+	if err != nil {
+		return z, pk, fmt.Errorf("analysis: tracking: %w", err)
+	}
+	return z, pk, nil
+}
+
 // Spin-up extension (extendSpinUps).
 const (
 	// spinUpBackS is how far before a run of track samples the blade-pass
@@ -1175,18 +1195,9 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 		}
 		f := tr.ShaftHz[i0]
 		nb := min(rc.Bins()-1, int(b*f*1.01/binHz)+2)
-		if need := (i0 - first) * nb; cap(z) < need {
-			z, pk = make([]float32, need), make([]float32, need)
-		}
-		x := tk.x[first*rc.Hop : (i0-1)*rc.Hop+rc.FrameLen]
-		err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
-			s := &scratch[w]
-			s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
-			copy(z[k*nb:(k+1)*nb], s.z[:nb])
-			copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
-		}, nil)
-		if err != nil {
-			return fmt.Errorf("analysis: tracking: %w", err)
+		var err error
+		if z, pk, err = tk.whitenFrames(ctx, rc, scratch, first, i0, nb, z, pk); err != nil {
+			return err
 		}
 		// Walk back.
 		for i := i0 - 1; i >= first; i-- {
@@ -1308,18 +1319,9 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 		for i := i0 - 1; i >= first; i-- {
 			if i < c0 {
 				c1, c0 = c0, max(first, c0-chunk)
-				if need := (c1 - c0) * nb; cap(z) < need {
-					z, pk = make([]float32, need), make([]float32, need)
-				}
-				x := tk.x[c0*rc.Hop : (c1-1)*rc.Hop+rc.FrameLen]
-				err := rc.Process(ctx, x, tk.fs, func(w, k int, re, im []float32) {
-					s := &scratch[w]
-					s.wh.whitenBelow(s.z, s.pk, re, im, nb+1)
-					copy(z[k*nb:(k+1)*nb], s.z[:nb])
-					copy(pk[k*nb:(k+1)*nb], s.pk[:nb])
-				}, nil)
-				if err != nil {
-					return fmt.Errorf("analysis: tracking: %w", err)
+				var err error
+				if z, pk, err = tk.whitenFrames(ctx, rc, scratch, c0, c1, nb, z, pk); err != nil {
+					return err
 				}
 			}
 			zr, pr := z[(i-c0)*nb:(i-c0+1)*nb], pk[(i-c0)*nb:(i-c0+1)*nb]
