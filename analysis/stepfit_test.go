@@ -280,14 +280,21 @@ func TestBootstrapCrossCheck(t *testing.T) {
 	}
 }
 
-// TestEarlyDeparture: the departure check says nothing of a fit whose onset
-// is right or early, and flags one placed late by most of its lateness.
-func TestEarlyDeparture(t *testing.T) {
+// onsetFixture is an invented track of one up step (τ 40 ms, θ 5 ms, 30 ms
+// window) with its kernel and plan, for the onset-interval checks.
+func onsetFixture() (synthStep, synthTrackSpec, *Track, fopdtKernel, *stepPlan) {
 	st := synthStep{commandS: 0.4, deadS: 0.005, tauS: 0.04, toHz: 260}
 	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1, startHz: 200, steps: []synthStep{st}, noiseHz: 0.3}
 	tr := spec.track(rand.New(rand.NewPCG(3, 4)))
 	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
 	p := &stepPlan{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1, fromS: 0.2, toS: 0.8}
+	return st, spec, tr, k, p
+}
+
+// TestEarlyDeparture: the departure check says nothing of a fit whose onset
+// is right or early, and flags one placed late by most of its lateness.
+func TestEarlyDeparture(t *testing.T) {
+	st, spec, tr, k, p := onsetFixture()
 	for _, c := range []struct {
 		lateS, lo, hi float64
 	}{{0, 0, 0}, {-0.01, 0, 0}, {0.015, 0.008, 0.02}, {0.03, 0.02, 0.035}} {
@@ -303,11 +310,7 @@ func TestEarlyDeparture(t *testing.T) {
 // estimates, flat on an invented track and raised through a transition the
 // tracker saw smeared.
 func TestSmearedOnset(t *testing.T) {
-	st := synthStep{commandS: 0.4, deadS: 0.005, tauS: 0.04, toHz: 260}
-	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.03, durS: 1, startHz: 200, steps: []synthStep{st}, noiseHz: 0.3}
-	tr := spec.track(rand.New(rand.NewPCG(3, 4)))
-	k := newFOPDTKernel(tr.Kernel, tr.KernelDtS)
-	p := &stepPlan{commandS: st.commandS, onsetLo: st.commandS, onsetHi: st.commandS + 0.1, fromS: 0.2, toS: 0.8}
+	st, _, tr, k, p := onsetFixture()
 	t0 := st.commandS + st.deadS
 	if smearedOnset(tr, p, t0, st.tauS, &k) {
 		t.Error("flat error estimates taken for a smeared transition")
