@@ -40,7 +40,7 @@ func (a *analysisFlags) register(fs *flag.FlagSet) {
 	fs.IntVar(&a.workers, "jobs", 0, "files analysed at once (`count`); 0 = one per CPU core")
 	fs.BoolVar(&a.quiet, "quiet", false, "no progress line on stderr")
 	fs.Float64Var(&a.fromS, "from", 0, "look for and fit steps from this time on, `seconds` (the whole recording is still tracked)")
-	fs.Float64Var(&a.toS, "to", 0, "look for and fit steps up to this time, `seconds` (0 = the end)")
+	fs.Float64Var(&a.toS, "to", 0, fmt.Sprintf("look for and fit steps up to this time, `seconds` (0 = the end); the interval must lie inside the recording and last at least %g s", analysis.MinIntervalS))
 }
 
 // config checks the flags and returns the analysis configuration.
