@@ -10,6 +10,12 @@
 //
 //	go test ./analysis/evaluate -run Sweep -eval.n 45 -eval.keep /tmp/eval -v
 //
+// Other seeds with -eval.seed. Three more tools run on the same cases:
+// -eval.diag (TestSweepDiagnostics: every step's intervals and warnings,
+// -eval.track case:from:to for track samples), -eval.tq (TestTrackQuality:
+// the tracker alone against the true speed, -eval.tqcase N for one case)
+// and -eval.blades (TestBladeReading: the blade count read without one).
+//
 // The figures are self-consistency checks against the project's own
 // synthesizer, not an outside reference.
 package evaluate
