@@ -165,7 +165,9 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     standstill) is followed back on the blade-pass line
 //     (extendSpinUps), as is the move before a jump of the track (a step
 //     whose old lines ring on in the room: followJumps).
-//  3. Checks: the comb's profile along the track tells whether another
+//  3. Checks: a stretch of the track that slipped an octave off and back
+//     is put back where its own comb profile allows it (voteStretches, a
+//     warning); the comb's profile along the track tells whether another
 //     blade count fits better (a warning), corrects a clear octave error of
 //     the shaft speed (a warning), or, with Blades = 0, gives the blade
 //     count (a warning; weak where the shaft-order lines are weak).
@@ -254,6 +256,10 @@ type tracker struct {
 	prof  []float64
 	profN []int
 	peaks []profilePeak // cached lines of the profile (profilePeaks)
+	// voted: a stretch between octave jumps was rescaled (voteStretches);
+	// the whole-file profile no longer matches the track, and its check
+	// is left out.
+	voted bool
 }
 
 // run performs the search and refinement passes with the given blade count
@@ -801,20 +807,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		if i%every != 0 {
 			return
 		}
-		lowest := max(3*binHz, profileMinHz)
-		for q := 1; q < profileLen; q++ {
-			x := float64(q) / profileDiv * f
-			if x > nyq || int(x/binHz+0.5)+1 >= lim {
-				break
-			}
-			if x < lowest {
-				continue
-			}
-			xb := x / binHz
-			sg := matchTolerance(xb)
-			s.prof[q] += float64(posValue(s.z, s.pk, float32(xb), float32(1/(4*sg*sg))))
-			s.profN[q]++
-		}
+		addProfile(s.prof, s.profN, s.z, s.pk, f, binHz, nyq, lim)
 	}, tk.report(total))
 	if err != nil {
 		return nil, fmt.Errorf("analysis: tracking: %w", err)
@@ -848,12 +841,38 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		return nil, err
 	}
 	despikeTrack(tr, despikeHalf)
+	msgs, err := tk.voteStretches(ctx, tr, rc, scratch)
+	if err != nil {
+		return nil, err
+	}
+	tr.Warnings = append(tr.Warnings, msgs...)
 	if nv := tr.validCount(); nv == 0 {
 		tr.Warnings = append(tr.Warnings, "no motor found: no harmonic comb stands out of the noise")
 	} else if nv < nf {
 		tr.Warnings = append(tr.Warnings, fmt.Sprintf("no motor in %d of %d frames (%.0f %%): left empty", nf-nv, nf, 100*float64(nf-nv)/float64(nf)))
 	}
 	return tr, nil
+}
+
+// addProfile adds one frame's comb levels at the profile's lattice
+// positions (q/profileDiv times the shaft frequency f), from 3 bins and
+// profileMinHz up (below, the floor is unreliable) to nyq and the bins
+// whitened (lim).
+func addProfile(prof []float64, profN []int, z, pk []float32, f, binHz, nyq float64, lim int) {
+	lowest := max(3*binHz, profileMinHz)
+	for q := 1; q < profileLen; q++ {
+		x := float64(q) / profileDiv * f
+		if x > nyq || int(x/binHz+0.5)+1 >= lim {
+			break
+		}
+		if x < lowest {
+			continue
+		}
+		xb := x / binHz
+		sg := matchTolerance(xb)
+		prof[q] += float64(posValue(z, pk, float32(xb), float32(1/(4*sg*sg))))
+		profN[q]++
+	}
 }
 
 // despikeTrack empties track samples that disagree with their neighbourhood: a

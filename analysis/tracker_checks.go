@@ -1,8 +1,11 @@
 package analysis
 
 import (
+	"context"
 	"fmt"
 	"math"
+
+	"whirlfit/dsp"
 )
 
 // Checks of the tracked comb against other readings of the same lines.
@@ -244,7 +247,7 @@ func (tk *tracker) checkBlades(given int) string {
 // blade count and, when one is clearly better, rescales the track. It
 // returns the warnings to report.
 func (tk *tracker) checkOctave(tr *Track) []string {
-	if tk.prof == nil {
+	if tk.prof == nil || tk.voted {
 		return nil
 	}
 	cur, ok := tk.readingScore(1, 1, tr.Blades)
@@ -309,4 +312,162 @@ func clippingWarning(x []float32) string {
 		return fmt.Sprintf("the recording looks clipped: %.2f %% of samples sit on flat tops at its peak level", 100*frac)
 	}
 	return ""
+}
+
+// Stretch vote (voteStretches).
+const (
+	// octaveJumpTol bounds |ln(r/2)| for a ratio r between neighbouring
+	// valid samples to count as an octave jump.
+	octaveJumpTol = 0.2
+	// stretchFrames is the most frames read for one stretch's profile;
+	// stretchMinFrames the fewest for it to be read at all.
+	stretchFrames    = 200
+	stretchMinFrames = 20
+	// slipTol bounds |ln(r/2)| for the jumps into and out of a stretch
+	// that is rescaled: a slip to another line of the same comb changes
+	// the reading by 2 exactly (but for the speed's change over a hop); a
+	// fast spin-up or step seen across a gap gives any ratio.
+	slipTol = 0.1
+)
+
+// stretch is a run of valid track samples between octave jumps: the
+// first valid sample from, the last to−1, n valid samples.
+type stretch struct{ from, to, n int }
+
+// octaveStretches splits the track's valid samples at its octave jumps
+// (octaveJumpTol).
+func octaveStretches(tr *Track) []stretch {
+	var st []stretch
+	cur := stretch{from: -1}
+	prev := -1
+	for i := range tr.ShaftHz {
+		if !tr.Valid(i) {
+			continue
+		}
+		if prev >= 0 && math.Abs(math.Abs(math.Log(tr.ShaftHz[i]/tr.ShaftHz[prev]))-math.Ln2) < octaveJumpTol {
+			cur.to = prev + 1
+			st = append(st, cur)
+			cur = stretch{from: -1}
+		}
+		if cur.from < 0 {
+			cur.from = i
+		}
+		cur.n++
+		prev = i
+	}
+	if cur.from >= 0 {
+		cur.to = prev + 1
+		st = append(st, cur)
+	}
+	return st
+}
+
+// octaveExcursion tells whether stretch j (of at least stretchMinFrames
+// samples) sits an octave off both its neighbours, as the track is now,
+// and returns the ratio that puts it back (1/2 or 2/1).
+func octaveExcursion(tr *Track, st []stretch, j int) (num, den int, ok bool) {
+	if j < 1 || j+1 >= len(st) || st[j].n < stretchMinFrames {
+		return 0, 0, false
+	}
+	c := st[j]
+	in := tr.ShaftHz[c.from] / tr.ShaftHz[st[j-1].to-1]
+	out := tr.ShaftHz[st[j+1].from] / tr.ShaftHz[c.to-1]
+	if (in > 1) == (out > 1) || !octaveSlip(in) || !octaveSlip(out) {
+		return 0, 0, false
+	}
+	if in > 1 {
+		return 1, 2, true
+	}
+	return 2, 1, true
+}
+
+// octaveSlip tells whether the ratio r between neighbouring samples is
+// within slipTol of 2 or ½.
+func octaveSlip(r float64) bool { return math.Abs(math.Abs(math.Log(r))-math.Ln2) < slipTol }
+
+// voteStretches splits the track at its octave jumps (a ratio near 2 or ½
+// between neighbouring valid samples: the comb's salience cannot tell f
+// from 2f or f/2 frame by frame) and rescales a stretch that sits an
+// octave off both its neighbours (a jump up into it and down out of it,
+// or the reverse, each within slipTol of an octave): a shaft does not
+// jump an octave and back, a tracker that slips to another line of the
+// comb does. The stretch's own comb profile, read over its frames, must
+// show the comb at the rescaled speed (its reading at the track's blade
+// count at least checkMargin) and not speak against it (within tieMargin
+// of the current reading), and the result must lie inside the search
+// range. On the sweep's recordings the profile alone
+// does not tell which side of a jump is right (with 2 blades, a comb
+// whose even harmonics dominate reads alike at f and 2f), so it only
+// vetoes. A stretch at the start or end of the track, with one
+// neighbour, is left as it is.
+func (tk *tracker) voteStretches(ctx context.Context, tr *Track, rc dsp.STFTConfig, scratch []refineScratch) ([]string, error) {
+	st := octaveStretches(tr)
+	if len(st) < 3 {
+		return nil, nil
+	}
+	bins := rc.Bins()
+	binHz := tk.fs / float64(rc.FFTLen)
+	nyq := 0.45 * tk.fs
+	s := &scratch[0]
+	var lnP []float32
+	sub := &tracker{prof: make([]float64, profileLen), profN: make([]int, profileLen)}
+	var msgs []string
+	lo, hi := tk.cfg.MinShaftHz, tk.cfg.MaxShaftHz
+	for j := 1; j+1 < len(st); j++ {
+		c := st[j]
+		num, den, ok := octaveExcursion(tr, st, j)
+		if !ok {
+			continue
+		}
+		r := float64(num) / float64(den)
+		inside := true
+		for i := c.from; i < c.to; i++ {
+			if f := tr.ShaftHz[i] * r; tr.Valid(i) && (f < lo*0.97 || f > hi*1.03) {
+				inside = false
+				break
+			}
+		}
+		if !inside {
+			continue
+		}
+		if lnP == nil {
+			lnP = make([]float32, bins)
+		}
+		clear(sub.prof)
+		clear(sub.profN)
+		sub.peaks = nil
+		step := max(1, c.n/stretchFrames)
+		k := 0
+		for i := c.from; i < c.to; i++ {
+			if !tr.Valid(i) {
+				continue
+			}
+			k++
+			if (k-1)%step != 0 {
+				continue
+			}
+			if err := tk.whitenFrame(ctx, rc, i, s.z, lnP, s); err != nil {
+				return nil, err
+			}
+			addProfile(sub.prof, sub.profN, s.z, s.pk, tr.ShaftHz[i], binHz, nyq, bins)
+		}
+		for q := range sub.prof {
+			if sub.profN[q] > 0 {
+				sub.prof[q] /= float64(sub.profN[q])
+			}
+		}
+		now, ok1 := sub.readingScore(1, 1, tr.Blades)
+		alt, ok2 := sub.readingScore(num, den, tr.Blades)
+		if !ok2 || alt < checkMargin || (ok1 && alt < now-tieMargin) {
+			continue // the comb is not seen at that speed, or speaks against it
+		}
+		for i := c.from; i < c.to; i++ {
+			tr.ShaftHz[i] *= r
+			tr.SigmaHz[i] *= r
+		}
+		tk.voted = true
+		msgs = append(msgs, fmt.Sprintf("shaft speed corrected by %s from %.2f s to %.2f s: the track jumped an octave there and back",
+			ratioString(num, den), tr.TimeS[c.from], tr.TimeS[c.to-1]))
+	}
+	return msgs, nil
 }
