@@ -780,11 +780,7 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 			if math.Abs(fh-fp) > 0.5*natBin+3*float64(h)*sdRun {
 				continue
 			}
-			snr := math.Max(math.Exp(zj)-1, 0.5)
-			// Jacobsen's Hann estimator is within about twice the Cramér–Rao
-			// bound (0.1/SNR_bin bins², Rife & Boorstyn 1974), hence
-			// 0.7/√SNR natural bins.
-			sdh := 0.7 * natBin / math.Sqrt(snr) / float64(h)
+			sdh := lineSD(zj, natBin, float64(h))
 			s.est[n], s.sd[n], s.hs[n] = fh/float64(h), sdh, h
 			n++
 			wt := 1 / (sdh * sdh)
@@ -1148,6 +1144,23 @@ func (tk *tracker) refineMoving(ctx context.Context, tr *Track, rc dsp.STFTConfi
 	return nil
 }
 
+// lineSD is the standard error, in shaft Hz, of a line of order h found
+// z nepers above the floor in frames of natural bin natBin Hz: Jacobsen's
+// Hann estimator is within about twice the Cramér–Rao bound (0.1/SNR_bin
+// bins², Rife & Boorstyn 1974), hence 0.7/√SNR natural bins.
+func lineSD(z, natBin, h float64) float64 {
+	snr := math.Max(math.Exp(z)-1, 0.5)
+	return 0.7 * natBin / math.Sqrt(snr) / h
+}
+
+// setLineSample sets track sample i to shaft frequency f read from one
+// line of order b found z nepers above the floor (the walks of
+// extendSpinUps and followJumps).
+func (t *Track) setLineSample(i int, f, z, natBin, b float64) {
+	t.ShaftHz[i], t.SigmaHz[i] = f, lineSD(z, natBin, b)
+	t.Confidence[i] = 1 - math.Exp(-z/refineMinZ)
+}
+
 // whitenFrames whitens refinement frames [from, to) below nb+1 bins and
 // writes each one's first nb bins of z and peak positions, frame after
 // frame, into z and pk (grown when short, and returned).
@@ -1236,9 +1249,7 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 			if fn < tk.cfg.MinShaftHz*0.97 || fn > f*1.005 {
 				break
 			}
-			snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
-			tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
-			tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+			tr.setLineSample(i, fn, float64(zr[kb]), natBin, b)
 			f = fn
 			// A stalled line is not a spin-up.
 			if j := i + stall; j < i0 && tr.ShaftHz[i] > tr.ShaftHz[j]*(1-spinUpStallRel) {
@@ -1370,9 +1381,7 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 			if agrees {
 				fn = tr.ShaftHz[i]
 			} else {
-				snr := math.Max(math.Exp(float64(zr[kb]))-1, 0.5)
-				tr.ShaftHz[i], tr.SigmaHz[i] = fn, 0.7*natBin/math.Sqrt(snr)/b
-				tr.Confidence[i] = 1 - math.Exp(-float64(zr[kb])/refineMinZ)
+				tr.setLineSample(i, fn, float64(zr[kb]), natBin, b)
 			}
 			f = fn
 			// A line that does not move towards the old speed is not the
