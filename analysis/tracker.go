@@ -1199,8 +1199,8 @@ const (
 // extendSpinUps follows the blade-pass line back from the first sample of
 // each run that follows at least spinUpStallS without one: a rotor
 // spinning up from standstill is quiet and fast at first (tonal power
-// grows about as f⁴), so the search pass's long frames, which smear the
-// rising line over many bins, find it only late. Going back frame by
+// grows about as f⁴, common practice), so the search pass's long frames,
+// which smear the rising line over many bins, find it only late. Going back frame by
 // frame, the strongest peak of the whitened spectrum (at least refineMinZ)
 // within B·[f·(1 − spinUpStepRel), f·1.005] continues the track, f being
 // the speed found in the frame after; it stops at a frame without one, at
@@ -1289,8 +1289,8 @@ const (
 // track (across at most jumpGap empty samples) towards the speed before it.
 // In a reverberant room the lines of the old speed ring on after a step,
 // and on a step down, where the new speed's lines are quieter (tonal power
-// grows about as f⁴), the ringing old line is the strongest in the frames
-// of the move: the track holds the old speed, flickers and then jumps to
+// grows about as f⁴, common practice), the ringing old line is the
+// strongest in the frames of the move: the track holds the old speed, flickers and then jumps to
 // the new one, and the move between is lost. Going back frame by frame
 // from the sample after the jump, the peak of the whitened spectrum (at
 // least refineMinZ) nearest to B·f within B·[f·(1 − jumpSlack),

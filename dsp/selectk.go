@@ -1,9 +1,9 @@
 package dsp
 
 // SelectK returns the k-th smallest element of x (0-based), reordering x
-// (C. A. R. Hoare's selection, "Algorithm 65: Find", 1961; in place, no
-// allocation): the order statistics of spectra and salience, a quantile
-// without a sort.
+// in place without allocating: C. A. R. Hoare's selection ("Algorithm 65:
+// Find", Comm. ACM, 1961; cited from memory). The order statistics of
+// spectra and salience, a quantile without a sort.
 func SelectK(x []float32, k int) float32 {
 	lo, hi := 0, len(x)-1
 	for lo < hi {
