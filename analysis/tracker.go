@@ -146,7 +146,10 @@ func (c TrackConfig) resolve(fs float64) (TrackConfig, error) {
 //     while the path is elsewhere (suppressBackground) have been taken off:
 //     fans, pumps, a second rotor, tones and hum cannot hold the track,
 //     and frames where the path still follows such a line (the standstill
-//     before a spin-up) are left unvoiced (dropBackgroundRuns).
+//     before a spin-up) are left unvoiced (dropBackgroundRuns). A second
+//     path, solved without the first path's source, replaces it when its
+//     comb is clearly the louder, or when it steps while the first stays
+//     put (louderSource, a warning).
 //  2. Refinement: a shorter Hann STFT sized to the speed found. In each
 //     frame the local salience picks the best candidate near the search
 //     path, and each harmonic h's peak near h times the running estimate is
@@ -345,6 +348,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		}
 	}
 	var tr *Track
+	var sourceMsg string
 	if len(maxima) == 0 {
 		tk.path = make([]int32, T)
 		for i := range tk.path {
@@ -356,13 +360,15 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		rp := ridgePath{T: T, K: K, lambda: pathSlopeCost * sref * float32(comb.logStep),
 			switchCost: voicingCost * sref, maxJump: make([]int32, K)}
 		dt := float64(sc.Hop) / fs
+		var stat []float32
 		for k, f := range tk.grid {
 			rp.maxJump[k] = int32(math.Ceil(math.Log1p(cfg.MaxAccelHzPerS*dt/f)/comb.logStep)) + 2
 		}
 		// Voicing from the salience as it is; the path through the voiced
 		// frames from the salience with stationary lines pushed down.
 		voiced := rp.solve(sal)
-		if stat := suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))); stat != nil {
+		var bg []float32
+		if stat = suppressStationary(sal, T, K, stationaryWeight, int(math.Ceil(stationarySpread/comb.logStep))); stat != nil {
 			rp.force = make([]int8, T)
 			for i, k := range voiced {
 				rp.force[i] = 1
@@ -374,18 +380,41 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 			// Lines that stay strong while the path is elsewhere are the
 			// background: take their level off and solve once more.
 			spread := int(math.Ceil(stationarySpread / comb.logStep))
-			if bg := suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread); bg != nil {
+			if bg = suppressBackground(sal, T, K, tk.path, int(math.Ceil(backgroundFar/comb.logStep)), spread); bg != nil {
 				tk.path = rp.solve(sal)
 				dropBackgroundRuns(tk.path, sal, K, stat, bg, max(1, int(math.Round(backgroundRunS*fs/float64(sc.Hop)))))
 			}
 		} else {
 			tk.path = voiced
 		}
+		// The raw salience for the second-source check: the suppressions
+		// were fitted to the first path's source.
+		for _, off := range [][]float32{stat, bg} {
+			if off == nil {
+				continue
+			}
+			for t := 0; t < T; t++ {
+				row := sal[t*K : (t+1)*K]
+				for k := range row {
+					row[k] += off[k]
+				}
+			}
+		}
+		p2, msg, err := tk.louderSource(ctx, sal, rp, comb, blades)
+		if err != nil {
+			return nil, nil, err
+		}
+		if p2 != nil {
+			tk.path, sourceMsg = p2, msg
+		}
 	}
 	sal = nil
 	tr, err = tk.refine(ctx, blades, total)
 	if err != nil {
 		return nil, nil, err
+	}
+	if sourceMsg != "" {
+		tr.Warnings = append(tr.Warnings, sourceMsg)
 	}
 	return tr, spec, nil
 }
