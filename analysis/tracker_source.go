@@ -86,22 +86,42 @@ func (tk *tracker) louderSource(ctx context.Context, sal []float32, rp ridgePath
 	}
 	excl := lo - 1 - rp.switchCost
 	// without solves a path on the salience from which the source at
-	// candidate src[t] (−1: none) has been taken out, frame by frame.
+	// candidate src[t] (−1: none) has been taken out, frame by frame; the
+	// salience is changed in place and put back (a copy of a long
+	// recording's would cost tens of megabytes).
+	var saved []float32
 	without := func(src []int32) []int32 {
-		s2 := slices.Clone(sal)
+		saved = saved[:0]
 		for t, k1 := range src {
 			if k1 < 0 {
 				continue
 			}
-			row := s2[t*K : (t+1)*K]
+			row := sal[t*K : (t+1)*K]
 			for _, o := range offs {
 				for k := max(0, int(k1)+o-tol); k <= min(K-1, int(k1)+o+tol); k++ {
+					saved = append(saved, row[k])
 					row[k] = excl
 				}
 			}
 		}
 		rp.force = nil
-		return rp.solve(s2)
+		p := rp.solve(sal)
+		i := 0
+		for t, k1 := range src {
+			if k1 < 0 {
+				continue
+			}
+			row := sal[t*K : (t+1)*K]
+			for _, o := range offs {
+				for k := max(0, int(k1)+o-tol); k <= min(K-1, int(k1)+o+tol); k++ {
+					if row[k] == excl {
+						row[k] = saved[i]
+					}
+					i++
+				}
+			}
+		}
+		return p
 	}
 	p2 := without(p1)
 
