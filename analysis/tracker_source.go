@@ -85,53 +85,44 @@ func (tk *tracker) louderSource(ctx context.Context, sal []float32, rp ridgePath
 		lo = min(lo, v)
 	}
 	excl := lo - 1 - rp.switchCost
-	// without solves a path on the salience from which the source at
-	// candidate src[t] (−1: none) has been taken out, frame by frame; the
-	// salience is changed in place and put back (a copy of a long
-	// recording's would cost tens of megabytes).
+	// each calls fn with the index in sal of every candidate of the source
+	// at candidate src[t] (−1: none), frame by frame.
+	each := func(src []int32, fn func(i int)) {
+		for t, k1 := range src {
+			if k1 < 0 {
+				continue
+			}
+			for _, o := range offs {
+				for k := max(0, int(k1)+o-tol); k <= min(K-1, int(k1)+o+tol); k++ {
+					fn(t*K + k)
+				}
+			}
+		}
+	}
+	// without solves a path on the salience from which that source has
+	// been taken out; the salience is changed in place and put back (a
+	// copy of a long recording's would cost tens of megabytes).
 	var saved []float32
 	without := func(src []int32) []int32 {
 		saved = saved[:0]
-		for t, k1 := range src {
-			if k1 < 0 {
-				continue
-			}
-			row := sal[t*K : (t+1)*K]
-			for _, o := range offs {
-				for k := max(0, int(k1)+o-tol); k <= min(K-1, int(k1)+o+tol); k++ {
-					saved = append(saved, row[k])
-					row[k] = excl
-				}
-			}
-		}
+		each(src, func(i int) { saved, sal[i] = append(saved, sal[i]), excl })
 		rp.force = nil
 		p := rp.solve(sal)
-		i := 0
-		for t, k1 := range src {
-			if k1 < 0 {
-				continue
+		j := 0
+		each(src, func(i int) {
+			if sal[i] == excl { // not put back yet (ranges may overlap)
+				sal[i] = saved[j]
 			}
-			row := sal[t*K : (t+1)*K]
-			for _, o := range offs {
-				for k := max(0, int(k1)+o-tol); k <= min(K-1, int(k1)+o+tol); k++ {
-					if row[k] == excl {
-						row[k] = saved[i]
-					}
-					i++
-				}
-			}
-		}
+			j++
+		})
 		return p
 	}
 	p2 := without(p1)
 
-	both, voiced2 := 0, 0
+	both := 0
 	for t := range p2 {
-		if p2[t] >= 0 {
-			voiced2++
-			if p1[t] >= 0 {
-				both++
-			}
+		if p2[t] >= 0 && p1[t] >= 0 {
+			both++
 		}
 	}
 	if float64(both) < sourceMinShare*float64(voiced1) || both < sourceMinFrames*sourceEvery {
