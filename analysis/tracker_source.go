@@ -23,10 +23,13 @@ import (
 // first path's speed, its integer multiples and fractions), and compares
 // the two combs' power where both are voiced: each comb's second strongest
 // blade-pass harmonic, so that a whine tone on one of its positions does
-// not make a comb. It returns the second path
-// when its comb is louder by sourceMargin in the median and it is no
-// steadier than the first (mains hum and whine tones, which are steady,
-// keep no claim), and nil otherwise.
+// not make a comb. The second source wins when its comb is clearly the
+// louder (sourceMargin), or when the first path is steady and the second
+// steps while not much quieter (sourceSteady…sourceStepQuieter); a second
+// path steadier than the first (mains hum, a whine tone) never does. The
+// winner's path is solved once more without the other source, which the
+// first path may have followed only in part, and returned with a warning;
+// nil when the first path stands.
 const (
 	// sourceMargin is the least median power ratio, in nepers of power
 	// (ln 2 = 3 dB), by which the second comb must be louder; it must be
@@ -148,8 +151,7 @@ func (tk *tracker) louderSource(ctx context.Context, sal []float32, rp ridgePath
 		return nil, "", nil
 	}
 
-	// The power of each path's comb (its lines and, with blades, the
-	// shaft line) on every sourceEvery-th search frame.
+	// The two combs' power ratio on every sourceEvery-th search frame.
 	sc := tk.search
 	cfg := dsp.STFTConfig{FrameLen: sc.FrameLen, Hop: sc.Hop * sourceEvery, FFTLen: sc.FFTLen, Window: sc.Window, Workers: sc.Workers}.Resolve(tk.fs)
 	nf := cfg.NumFrames(len(tk.x))
@@ -160,7 +162,7 @@ func (tk *tracker) louderSource(ctx context.Context, sal []float32, rp ridgePath
 	combPower := func(re, im []float32, f float64) float64 {
 		// The second strongest blade-pass harmonic: a comb has several
 		// lines, a whine tone one.
-		var p1, p2 float32
+		var top, second float32
 		for m := 1; m <= combHarmonics; m++ {
 			b := int(float64(m*B)*f/binHz + 0.5)
 			if b < 1 || b+1 >= bins {
@@ -170,13 +172,13 @@ func (tk *tracker) louderSource(ctx context.Context, sal []float32, rp ridgePath
 			for j := b - 1; j <= b+1; j++ {
 				p = max(p, re[j]*re[j]+im[j]*im[j])
 			}
-			if p > p1 {
-				p1, p2 = p, p1
-			} else if p > p2 {
-				p2 = p
+			if p > top {
+				top, second = p, top
+			} else if p > second {
+				second = p
 			}
 		}
-		return float64(p2)
+		return float64(second)
 	}
 	err := cfg.Process(ctx, tk.x, tk.fs, func(w, i int, re, im []float32) {
 		t := i * sourceEvery
