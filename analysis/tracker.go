@@ -358,7 +358,7 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		slices.Sort(maxima)
 		sref := maxima[len(maxima)/2]
 		rp := ridgePath{T: T, K: K, lambda: pathSlopeCost * sref * float32(comb.logStep),
-			switchCost: voicingCost * sref, maxJump: make([]int32, K)}
+			switchCost: voicingCost * sref, maxJump: make([]int32, K), bp: new([]int16)}
 		dt := float64(sc.Hop) / fs
 		var stat []float32
 		for k, f := range tk.grid {

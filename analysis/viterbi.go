@@ -32,6 +32,10 @@ type ridgePath struct {
 	// force, when not nil, fixes the voicing of frames: 1 = voiced,
 	// −1 = unvoiced, 0 = free.
 	force []int8
+	// bp, when not nil, keeps the back-pointer table (T·K entries) for the
+	// next solve: the tracker solves one matrix several times, and a long
+	// recording's table is tens of megabytes.
+	bp *[]int16
 }
 
 func (r *ridgePath) solve(sal []float32) []int32 {
@@ -43,8 +47,16 @@ func (r *ridgePath) solve(sal []float32) []int32 {
 		}
 		return path
 	}
-	bp := make([]int16, T*K) // previous state, −1 = unvoiced
-	bpu := make([]int32, T)  // unvoiced's previous state, −1 = unvoiced
+	var bp []int16 // previous state, −1 = unvoiced; every row but the first is written
+	if r.bp != nil && cap(*r.bp) >= T*K {
+		bp = (*r.bp)[:T*K]
+	} else {
+		bp = make([]int16, T*K)
+		if r.bp != nil {
+			*r.bp = bp
+		}
+	}
+	bpu := make([]int32, T) // unvoiced's previous state, −1 = unvoiced
 	prev := make([]float32, K)
 	cur := make([]float32, K)
 	best := make([]float32, K) // best predecessor value for each k
