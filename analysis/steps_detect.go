@@ -44,11 +44,12 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	lag := max(1, int(math.Ceil(k.spanS()/hop)))
 	sigma := robustNoise(y, lag)
 	W := max(3, int(math.Round(detectWindowS/hop)))
-	// A leading stretch without a harmonic comb that ends in a rise is a
-	// silent rotor spinning up: what the tracker followed there is left
-	// out, so that the spin-up is seen as one from standstill.
+	// A leading stretch without a harmonic comb, or on mains hum, that ends
+	// in a rise is a silent rotor spinning up: what the tracker followed
+	// there is left out, so that the spin-up is seen as one from
+	// standstill.
 	masked := false
-	if lead := leadingNoComb(tr, hop); lead > 0 {
+	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop)); lead > 0 {
 		raw := slices.Clone(tr.ShaftHz)
 		held := false
 		for i := range lead {
@@ -186,7 +187,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 			notes := []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}
 			if masked {
-				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: no harmonic comb stands out there (the rotor is silent), whatever line the tracker followed", t1))
+				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: the rotor is silent there (no harmonic comb stands out, or only mains hum), whatever line the tracker followed", t1))
 			}
 			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true, up: true, t90: t90,
 				seenFromS: t1, notes: notes})
@@ -400,6 +401,79 @@ func leadingNoComb(tr *Track, hop float64) int {
 		return 0
 	}
 	return end
+}
+
+// Mains hum before a spin-up (common practice: the mains frequency is 50 or
+// 60 Hz and held within a few tenths of a per cent; hum has lines at its
+// multiples).
+const (
+	mainsRelTol   = 0.003 // blade-pass line within this of a hum harmonic, and steady within it
+	mainsMaxOrder = 12    // highest hum harmonic taken for the blade-pass line
+	mainsGapS     = 0.02  // the lost stretch that ends the hum
+	mainsJump     = 1.5   // the track after the gap starts at least this much faster
+)
+
+// leadingMains returns how many samples at the start of tr hold a mains-hum
+// line before a spin-up: a stretch of at least standstillMinGap on a line
+// whose blade-pass frequency is a harmonic of 50 or 60 Hz and that holds
+// it within mainsRelTol, ended by at least mainsGapS without a track, after
+// which the track resumes at least mainsJump times faster. Hum is a comb
+// of its own, often as clear as a quiet rotor's, so leadingNoComb does not
+// see it; the tracker holds it until the spinning rotor outsounds it. It
+// returns 0 when there is no such stretch.
+func leadingMains(tr *Track, hop float64) int {
+	n := tr.Len()
+	gap := max(1, int(math.Round(mainsGapS/hop)))
+	end, run := -1, 0
+	for i := range n {
+		if tr.Valid(i) {
+			run = 0
+			continue
+		}
+		run++
+		if run >= gap {
+			end = i - run + 1
+			break
+		}
+	}
+	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
+		return 0
+	}
+	var lead []float64
+	for i := range end {
+		if tr.Valid(i) {
+			lead = append(lead, tr.ShaftHz[i])
+		}
+	}
+	if len(lead) < 8 {
+		return 0
+	}
+	m := median(lead)
+	dev := make([]float64, len(lead))
+	for i, f := range lead {
+		dev[i] = math.Abs(f - m)
+	}
+	if !(median(dev) <= mainsRelTol*m) {
+		return 0
+	}
+	bpf := float64(max(tr.Blades, 1)) * m
+	mains := false
+	for _, hz := range []float64{50, 60} {
+		j := math.Round(bpf / hz)
+		mains = mains || (j >= 1 && j <= mainsMaxOrder && math.Abs(bpf-j*hz) <= mainsRelTol*j*hz)
+	}
+	if !mains {
+		return 0
+	}
+	for i := end; i < n; i++ {
+		if tr.Valid(i) {
+			if tr.ShaftHz[i] < mainsJump*m {
+				return 0
+			}
+			return i
+		}
+	}
+	return 0
 }
 
 // limitDetectedWindows judges each detected change on the stretch its own

@@ -363,3 +363,50 @@ func TestDetectStepBehindHeldLine(t *testing.T) {
 		}
 	}
 }
+
+func TestStandstillBehindMainsHum(t *testing.T) {
+	// A spin-up from 0, found by detection: while the rotor is quiet the
+	// tracker holds mains hum (two blades, a 60 Hz shaft line whose
+	// blade-pass line is hum's second harmonic), loses it 60 ms before the
+	// rotor outsounds it, and joins the rotor part-way up (invented track).
+	// The step must come out as a spin-up from 0 that starts near the true
+	// onset, not as a step from the hum line that starts where the track
+	// resumes. A steady line that is not hum (63 Hz) is not taken for it.
+	for _, c := range []struct {
+		lineHz   float64
+		wantHum  bool
+		wantFrom float64
+	}{{60, true, 0}, {60.1, true, 0}, {63, false, 63}} {
+		spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.6, startHz: 0, noiseHz: 0.3, standstillUntilS: 0.305,
+			steps: []synthStep{{commandS: 0.3, deadS: 0.005, tauS: 0.12, toHz: 310}}}
+		tr := spec.track(rand.New(rand.NewPCG(14, 14)))
+		rng := rand.New(rand.NewPCG(15, 15))
+		const joinS = 0.44 // the rotor outsounds the hum here (≈ 210 Hz)
+		for i, ts := range tr.TimeS {
+			switch {
+			case ts < joinS-0.06:
+				tr.ShaftHz[i] = c.lineHz + 0.02*rng.NormFloat64()
+			case ts < joinS:
+				tr.ShaftHz[i] = math.NaN()
+			}
+		}
+		if got := leadingMains(tr, trackHop(tr)) > 0; got != c.wantHum {
+			t.Errorf("line %.1f Hz: taken for mains hum %v, want %v", c.lineHz, got, c.wantHum)
+		}
+		if !c.wantHum {
+			continue
+		}
+		res, _ := AnalyseSteps(tr, StepConfig{Bootstrap: -1})
+		if len(res) != 1 {
+			t.Fatalf("line %.1f Hz: %d steps, want 1", c.lineHz, len(res))
+		}
+		r := res[0]
+		t.Logf("line %.1f Hz: start %.4f s, τ %.4f s [%.4f, %.4f], rpm %.0f → %.0f, warnings %q", c.lineHz, r.ResponseStartS, r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1], r.RPMBefore.Value, r.RPMAfter.Value, r.Warnings)
+		if r.RPMBefore.Value != c.wantFrom || !hasWarning(r.Warnings, "standstill") {
+			t.Errorf("line %.1f Hz: rpm before %.0f, warnings %q; want %.0f and a standstill warning", c.lineHz, r.RPMBefore.Value, r.Warnings, c.wantFrom)
+		}
+		if math.Abs(r.ResponseStartS-0.305) > 0.03 || math.Abs(r.TauS.Value/0.12-1) > 0.1 {
+			t.Errorf("line %.1f Hz: start %.4f s, τ %.4f s; want 0.305 ± 0.03 s, 0.12 s ± 10 %%", c.lineHz, r.ResponseStartS, r.TauS.Value)
+		}
+	}
+}
