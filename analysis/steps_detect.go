@@ -367,18 +367,7 @@ func leadingNoComb(tr *Track, hop float64) int {
 	// a comb that shows for a moment only (a click, a burst of hum) does
 	// not end it.
 	hold := max(1, int(math.Round(noCombSmoothS/hop)))
-	end, run := -1, 0
-	for i := range n {
-		if conf[i] >= noCombConfidence {
-			run++
-		} else {
-			run = 0
-		}
-		if run >= hold {
-			end = i - run + 1
-			break
-		}
-	}
+	end := firstRun(n, hold, func(i int) bool { return conf[i] >= noCombConfidence })
 	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
 		return 0
 	}
@@ -403,6 +392,22 @@ func leadingNoComb(tr *Track, hop float64) int {
 	return end
 }
 
+// firstRun returns the first i of the first run of at least length
+// consecutive indices in [0, n) for which in holds, −1 when there is none.
+func firstRun(n, length int, in func(i int) bool) int {
+	run := 0
+	for i := range n {
+		if !in(i) {
+			run = 0
+			continue
+		}
+		if run++; run >= length {
+			return i - run + 1
+		}
+	}
+	return -1
+}
+
 // Mains hum before a spin-up (common practice: the mains frequency is 50 or
 // 60 Hz and held within a few tenths of a per cent; hum has lines at its
 // multiples).
@@ -424,18 +429,7 @@ const (
 func leadingMains(tr *Track, hop float64) int {
 	n := tr.Len()
 	gap := max(1, int(math.Round(mainsGapS/hop)))
-	end, run := -1, 0
-	for i := range n {
-		if tr.Valid(i) {
-			run = 0
-			continue
-		}
-		run++
-		if run >= gap {
-			end = i - run + 1
-			break
-		}
-	}
+	end := firstRun(n, gap, func(i int) bool { return !tr.Valid(i) })
 	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
 		return 0
 	}
