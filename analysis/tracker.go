@@ -1210,6 +1210,39 @@ func (tk *tracker) whitenFrames(ctx context.Context, rc dsp.STFTConfig, scratch 
 	return z, pk, nil
 }
 
+// lineWalk holds the scales both walks along the blade-pass line use
+// (extendSpinUps, followJumps): the blade count b, the bin width of the
+// refinement transform and of its frame without padding (natBin), and
+// how many frames the walk may go back and makes a stall.
+type lineWalk struct {
+	b, binHz, natBin float64
+	back, stall      int
+}
+
+func (tk *tracker) newLineWalk(rc dsp.STFTConfig, blades int, backS, stallS float64) lineWalk {
+	binHz := tk.fs / float64(rc.FFTLen)
+	return lineWalk{b: float64(max(blades, 1)), binHz: binHz, natBin: binHz * float64(rc.FFTLen/rc.FrameLen),
+		back: max(1, int(backS*tk.fs/float64(rc.Hop))), stall: max(2, int(stallS*tk.fs/float64(rc.Hop)))}
+}
+
+// peak returns the bin, among those covering [lo, hi] Hz, of the whitened
+// frame's interpolated peak with an excess of at least refineMinZ that ok
+// accepts (nil: all) and that better prefers to the one found so far; −1
+// when there is none. zr and pr are the frame's excess and peak positions
+// (whiten).
+func (lw lineWalk) peak(zr, pr []float32, lo, hi float64, ok func(k int) bool, better func(k, kb int) bool) int {
+	kb := -1
+	for k := max(1, int(math.Floor(lo/lw.binHz))); k <= min(len(zr)-1, int(math.Ceil(hi/lw.binHz))); k++ {
+		if pr[k] < 0 || zr[k] < refineMinZ || (ok != nil && !ok(k)) {
+			continue
+		}
+		if kb < 0 || better(k, kb) {
+			kb = k
+		}
+	}
+	return kb
+}
+
 // Spin-up extension (extendSpinUps).
 const (
 	// spinUpBackS is how far before a run of track samples the blade-pass
@@ -1237,11 +1270,8 @@ const (
 // empty). The peaks are QIFFT positions (whiten), ample on a moving line.
 func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
 	nf := tr.Len()
-	b := float64(max(blades, 1))
-	binHz := tk.fs / float64(rc.FFTLen)
-	natBin := binHz * float64(rc.FFTLen/rc.FrameLen)
-	back := max(1, int(spinUpBackS*tk.fs/float64(rc.Hop)))
-	stall := max(2, int(spinUpStallS*tk.fs/float64(rc.Hop)))
+	lw := tk.newLineWalk(rc, blades, spinUpBackS, spinUpStallS)
+	b, binHz, natBin, back, stall := lw.b, lw.binHz, lw.natBin, lw.back, lw.stall
 	var z, pk []float32 // per frame, bins [0, nb)
 	for i0 := 1; i0 < nf; i0++ {
 		if !tr.Valid(i0) || tr.Valid(i0-1) {
@@ -1263,14 +1293,7 @@ func (tk *tracker) extendSpinUps(ctx context.Context, tr *Track, rc dsp.STFTConf
 		// Walk back.
 		for i := i0 - 1; i >= first; i-- {
 			zr, pr := z[(i-first)*nb:(i-first+1)*nb], pk[(i-first)*nb:(i-first+1)*nb]
-			lo := max(1, int(math.Floor(b*f*(1-spinUpStepRel)/binHz)))
-			hi := min(nb-1, int(math.Ceil(b*f*1.005/binHz)))
-			kb := -1
-			for k := lo; k <= hi; k++ {
-				if pr[k] >= 0 && zr[k] >= refineMinZ && (kb < 0 || zr[k] > zr[kb]) {
-					kb = k
-				}
-			}
+			kb := lw.peak(zr, pr, b*f*(1-spinUpStepRel), b*f*1.005, nil, func(k, kb int) bool { return zr[k] > zr[kb] })
 			if kb < 0 {
 				break
 			}
@@ -1335,11 +1358,8 @@ const (
 // kept if the track already followed it there. A step up is followed alike.
 func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig, blades int, scratch []refineScratch) error {
 	nf := tr.Len()
-	b := float64(max(blades, 1))
-	binHz := tk.fs / float64(rc.FFTLen)
-	natBin := binHz * float64(rc.FFTLen/rc.FrameLen)
-	back := max(1, int(jumpBackS*tk.fs/float64(rc.Hop)))
-	stall := max(2, int(jumpStallS*tk.fs/float64(rc.Hop)))
+	lw := tk.newLineWalk(rc, blades, jumpBackS, jumpStallS)
+	b, binHz, natBin, back, stall := lw.b, lw.binHz, lw.natBin, lw.back, lw.stall
 	var z, pk []float32
 	var saved [][3]float64 // the samples as they were, from i0 − 1 back
 	var kept []bool        // whether the walk left them as they were
@@ -1390,16 +1410,12 @@ func (tk *tracker) followJumps(ctx context.Context, tr *Track, rc dsp.STFTConfig
 			} else {
 				lo, hi = b*max(fOld, f*(1-jumpStepRel)), b*f*(1+jumpSlack)
 			}
-			kb := -1
-			for k := max(1, int(math.Floor(lo/binHz))); k <= min(nb-1, int(math.Ceil(hi/binHz))); k++ {
+			kb := lw.peak(zr, pr, lo, hi, func(k int) bool {
 				q := float64(pr[k]) * binHz
-				if pr[k] < 0 || zr[k] < refineMinZ || q < lo || q > hi || (q > oldLo && q < oldHi) {
-					continue
-				}
-				if kb < 0 || math.Abs(q-b*f) < math.Abs(float64(pr[kb])*binHz-b*f) {
-					kb = k
-				}
-			}
+				return q >= lo && q <= hi && !(q > oldLo && q < oldHi)
+			}, func(k, kb int) bool {
+				return math.Abs(float64(pr[k])*binHz-b*f) < math.Abs(float64(pr[kb])*binHz-b*f)
+			})
 			if kb < 0 {
 				break
 			}
