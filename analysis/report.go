@@ -41,6 +41,9 @@ type StepResult struct {
 
 	// Fit holds what is needed to redraw the model and its band.
 	Fit *StepFit `json:"-"`
+	// fine is the refit on the fine track that replaces this result once
+	// detection is done with it (fineAlternative, useFine).
+	fine *StepResult
 }
 
 // Report is the result of analysing one recording.

@@ -53,11 +53,17 @@ func (c StepConfig) withDefaults() StepConfig {
 // Fit windows (common practice): at least this much track before the onset
 // and at most this much after it.
 const (
-	preWindowS      = 0.12
-	maxPostWindowS  = 1.5
-	postWindowTaus  = 12
-	minPostWindowS  = 0.3
-	settledTaus     = 4
+	preWindowS     = 0.12
+	maxPostWindowS = 1.5
+	postWindowTaus = 12
+	minPostWindowS = 0.3
+	settledTaus    = 4
+	// fineTauKernels and fineSameSpeed rule fineAlternative: refit on
+	// the fine track under five kernel standard deviations (the end-to-end
+	// sweep's errors grow below that ratio), keep the refit when its
+	// speeds before and after agree within a tenth of the change.
+	fineTauKernels  = 5
+	fineSameSpeed   = 0.1
 	poorR2          = 0.9
 	poorRelativeRMS = 0.08
 )
@@ -128,7 +134,19 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 		}
 		warns = append(warns, mergeWarns...)
 	}
-	return out, append(warns, fitWarns...)
+	return useFine(out), append(warns, fitWarns...)
+}
+
+// useFine puts each step's refit on the fine track (fineAlternative), where
+// there is one, in its place, keeping the steps in time order.
+func useFine(out []StepResult) []StepResult {
+	for i := range out {
+		if f := out[i].fine; f != nil {
+			out[i] = *f
+		}
+	}
+	sort.SliceStable(out, func(a, b int) bool { return out[a].ResponseStartS < out[b].ResponseStartS })
+	return out
 }
 
 // fitPlans fits every plan and returns the results in time order, the plan
@@ -141,6 +159,7 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 	// The steps are fitted independently (each reads the track and the
 	// kernel only and writes its own plan), so on all cores; the results
 	// are taken in plan order, as if fitted one after another.
+	ksd := k.sdS()
 	results := make([]*StepResult, len(plans))
 	errs := make([]error, len(plans))
 	var wg sync.WaitGroup
@@ -157,7 +176,13 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 				if errs[i] == nil && plans[i].hasCommand() && !plans[i].standstill && res.DeadTimeS != nil && res.DeadTimeS.Value > 0.5*(plans[i].onsetHi-plans[i].commandS) {
 					if alt := standstillAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
 						results[i] = alt
+						continue
 					}
+				}
+				if errs[i] == nil {
+					// Taken in at the end (useFine): detection's tests read
+					// the track's own fit.
+					res.fine = fineAlternative(tr, ksd, plans[i], res, cfg, uint64(i))
 				}
 			}
 		})
@@ -336,6 +361,40 @@ func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, r
 		return nil
 	}
 	alt.Warnings = append(alt.Warnings, fmt.Sprintf("taken as a start from standstill: the track holds %.0f rpm until %.3f s, later than a motor answers, and then rises as a spin-up from 0 rpm would; the steady line before is taken as another sound the tracker followed while the rotor stood still", res.RPMBefore.Value, res.ResponseStartS))
+	return alt
+}
+
+// fineAlternative refits a step on the fine track (Track.fine) when its
+// time constant is short for the track's kernel: under fineTauKernels
+// kernel standard deviations, where the line's peak no longer moves as
+// the kernel-weighted mean of the speed and the fit's model of the track
+// reads τ off by several per cent. The refit is taken when it finds the
+// same speeds before and after (within fineSameSpeed of the change), and
+// its τ is short for the track's kernel too; otherwise nil.
+func fineAlternative(tr *Track, ksd float64, p stepPlan, res *StepResult, cfg StepConfig, stepNo uint64) *StepResult {
+	ft := tr.fine
+	if ft == nil || ft.Len() < 8 || !(res.TauS.Value < fineTauKernels*ksd) {
+		return nil
+	}
+	hop := trackHop(ft)
+	if !(hop > 0) {
+		return nil
+	}
+	kf := newFOPDTKernel(ft.Kernel, ft.KernelDtS)
+	on := ft
+	if p.heldToS > p.heldFromS {
+		on = withoutStretch(ft, p.heldFromS, p.heldToS)
+	}
+	alt, err := fitPlan(on, &kf, hop, &p, cfg, stepNo)
+	if err != nil {
+		return nil
+	}
+	change := math.Abs(res.RPMAfter.Value - res.RPMBefore.Value)
+	if math.Abs(alt.RPMBefore.Value-res.RPMBefore.Value) > fineSameSpeed*change ||
+		math.Abs(alt.RPMAfter.Value-res.RPMAfter.Value) > fineSameSpeed*change ||
+		!(alt.TauS.Value < fineTauKernels*ksd) || alt.TauS.Value <= tauMinS*1.01 {
+		return nil
+	}
 	return alt
 }
 

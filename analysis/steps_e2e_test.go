@@ -208,3 +208,53 @@ func TestEndToEndRandomScenes(t *testing.T) {
 			okN, 100*quantileSorted(okErr, 0.5), okIn)
 	}
 }
+
+func TestEndToEndFastStepsSlowRotor(t *testing.T) {
+	// A two-blade rotor at 100–150 Hz: the track's frame holds 4.5 turns
+	// of the slowest speed (43 ms at 48 kHz, a kernel standard deviation
+	// of 6 ms), and the time constants are 6–15 ms. These steps are
+	// refitted on the fine track (half the frame). On the track alone θ
+	// came out 2.8–3.2 ms off for the 12 ms down steps and the τ
+	// intervals spanned a factor of three.
+	steps := []synth.Step{
+		{CommandS: 0.8, TargetHz: 140, TauS: 0.008, DeadS: 0.004},
+		{CommandS: 1.3, TargetHz: 100, TauS: 0.012, DeadS: 0.006},
+		{CommandS: 1.8, TargetHz: 150, TauS: 0.006, DeadS: 0.003},
+		{CommandS: 2.3, TargetHz: 110, TauS: 0.015, DeadS: 0.005},
+	}
+	truth := synth.StepsTruth(110, steps...)
+	var cmds []float64
+	for _, s := range truth {
+		cmds = append(cmds, s.CommandS)
+	}
+	for _, seed := range []uint64{1, 2, 3} {
+		sc := synth.Scene{SampleRate: 48000, DurationS: 2.8, Shaft: synth.Steps(110, steps...),
+			Rotor: synth.NewRotor(2, 7), SNRdB: 20, HighPassHz: 80, Seed: seed}
+		x, err := synth.Render(sc)
+		if err != nil {
+			t.Fatal(err)
+		}
+		a := &dsp.Audio{SampleRate: sc.SampleRate, Channels: [][]float32{x}}
+		rep, err := Run(context.Background(), a, Config{Blades: 2, CommandTimesS: cmds, Steps: StepConfig{Bootstrap: -1}}, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(rep.Steps) != len(truth) {
+			t.Fatalf("seed %d: fitted %d steps, want %d (warnings %q)", seed, len(rep.Steps), len(truth), rep.Warnings)
+		}
+		for i, s := range truth {
+			r := rep.Steps[i]
+			t.Logf("seed %d step %d: τ %.2f ms [%.2f, %.2f] (true %.1f), θ %.2f ms (true %.1f)", seed, i,
+				1e3*r.TauS.Value, 1e3*r.TauS.CI95[0], 1e3*r.TauS.CI95[1], 1e3*s.TauS, 1e3*r.DeadTimeS.Value, 1e3*s.DeadS)
+			if math.Abs(r.TauS.Value/s.TauS-1) > 0.07 {
+				t.Errorf("seed %d step %d: τ %.2f ms, want %.1f ms ± 7 %%", seed, i, 1e3*r.TauS.Value, 1e3*s.TauS)
+			}
+			if math.Abs(r.DeadTimeS.Value-s.DeadS) > 0.0015 {
+				t.Errorf("seed %d step %d: θ %.2f ms, want %.1f ± 1.5 ms", seed, i, 1e3*r.DeadTimeS.Value, 1e3*s.DeadS)
+			}
+			if hi, lo := r.TauS.CI95[1], r.TauS.CI95[0]; hi/lo > 1.6 {
+				t.Errorf("seed %d step %d: τ interval [%.2f, %.2f] ms spans more than a factor of 1.6", seed, i, 1e3*lo, 1e3*hi)
+			}
+		}
+	}
+}

@@ -40,6 +40,10 @@ type Track struct {
 	// The weights sum to 1. Fits convolve their model with it.
 	Kernel    []float64
 	KernelDtS float64
+	// fine, when not nil, is the same rotor tracked with a frame half as
+	// long: a kernel half as wide, noisier samples. Fits of steps fast for
+	// the track's kernel are made on it (see fitPlans).
+	fine *Track
 	// Warnings collects what the tracker noticed (another blade count fits
 	// better, frames without motor, clipping, …).
 	Warnings []string
@@ -75,5 +79,8 @@ func (t *Track) Between(fromS, toS float64) *Track {
 	out.ShaftHz = t.ShaftHz[lo:hi]
 	out.SigmaHz = t.SigmaHz[lo:hi]
 	out.Confidence = t.Confidence[lo:hi]
+	if t.fine != nil {
+		out.fine = t.fine.Between(fromS, toS)
+	}
 	return &out
 }

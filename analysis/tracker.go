@@ -62,6 +62,9 @@ const (
 	// line 100–200 Hz away, and τ ≥ 8 ms needs no finer kernel (a 20 ms
 	// Hann frame's kernel has a standard deviation of 2.8 ms).
 	refineMinFrameS = 0.02
+	// fineMinFrameS is the shortest frame of the fine track (half the
+	// default frame; below this none is made).
+	fineMinFrameS = 0.0075
 	// refineHopS is the default hop of the output track.
 	refineHopS = 0.0025
 	// maxDisplayFrames bounds the display spectrogram's rows.
@@ -316,7 +319,13 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 	// it too (whose search pass is as long as this one).
 	outHop := max(1, int(math.Round(refineHopS*fs)))
 	outFrames := T * sc.Hop / outHop
+	// The fine track (see Track.fine) is made on the final pass when the
+	// frame is the default and long enough to halve.
+	fine := display && blades > 0 && cfg.STFT.FrameLen == 0
 	total := tk.done + T + 2*outFrames
+	if fine {
+		total += 2 * outFrames
+	}
 	if blades == 0 {
 		nextT := outFrames * outHop / max(1, int(math.Round(searchHopS*fs)))
 		total = T + min(outFrames/profileEvery, profileFrames) + nextT + 2*outFrames
@@ -409,9 +418,23 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		}
 	}
 	sal = nil
-	tr, err = tk.refine(ctx, blades, total)
+	tr, err = tk.refine(ctx, blades, total, 1)
 	if err != nil {
 		return nil, nil, err
+	}
+	if fine {
+		// The fine track leaves the comb profile and the octave-vote state
+		// as the track made them; its own warnings are not the track's.
+		prof, profN, voted := tk.prof, tk.profN, tk.voted
+		ft, err := tk.refine(ctx, blades, total, 2)
+		if err != nil {
+			return nil, nil, err
+		}
+		tk.prof, tk.profN, tk.voted, tk.peaks = prof, profN, voted, nil
+		if ft != nil {
+			ft.Warnings = nil
+			tr.fine = ft
+		}
 	}
 	if sourceMsg != "" {
 		tr.Warnings = append(tr.Warnings, sourceMsg)
@@ -657,7 +680,10 @@ type refineScratch struct {
 }
 
 // refine runs the refinement pass along the search path.
-func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, error) {
+// Its default frame is divided by div (1 for the track, 2 for the fine
+// track); with div > 1 it returns nil, nil when that frame would be shorter
+// than fineMinFrameS.
+func (tk *tracker) refine(ctx context.Context, blades, total, div int) (*Track, error) {
 	fs := tk.fs
 	K := len(tk.grid)
 	// The lowest speed on the path sets the frame.
@@ -681,7 +707,10 @@ func (tk *tracker) refine(ctx context.Context, blades int, total int) (*Track, e
 		rc = dsp.STFTConfig{}
 	}
 	if rc.FrameLen == 0 {
-		rc.FrameLen = min(pow2Nearest(max(refineCycles*fs/fLow, refineMinFrameS*fs)), tk.search.FrameLen)
+		rc.FrameLen = min(pow2Nearest(max(refineCycles*fs/fLow, refineMinFrameS*fs)), tk.search.FrameLen) / div
+		if div > 1 && float64(rc.FrameLen) < fineMinFrameS*fs {
+			return nil, nil
+		}
 	}
 	if rc.Hop == 0 {
 		rc.Hop = max(1, min(rc.FrameLen/4, int(math.Round(refineHopS*fs))))
