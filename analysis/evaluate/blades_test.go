@@ -22,7 +22,7 @@ func TestBladeReading(t *testing.T) {
 		t.Skip("blade reading only with -eval.blades")
 	}
 	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
-	opts := synth.DefaultRandomOptions()
+	opts := sweepOptions()
 	var n, right, rpmRight int
 	for i := range *evalN {
 		c, a, cfg, _, ok := nextCase(t, i, rng, opts)

@@ -12,7 +12,6 @@ import (
 	"testing"
 
 	"whirlfit/analysis"
-	"whirlfit/dsp/synth"
 )
 
 var (
@@ -29,7 +28,7 @@ func TestSweepDiagnostics(t *testing.T) {
 		t.Skip("diagnostics only with -eval.diag")
 	}
 	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
-	opts := synth.DefaultRandomOptions()
+	opts := sweepOptions()
 	for i := range *evalN {
 		c, a, cfg, cmds, ok := nextCase(t, i, rng, opts)
 		if !ok {

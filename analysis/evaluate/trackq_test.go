@@ -10,7 +10,6 @@ import (
 
 	"whirlfit/analysis"
 	"whirlfit/dsp"
-	"whirlfit/dsp/synth"
 )
 
 var (
@@ -31,7 +30,7 @@ func TestTrackQuality(t *testing.T) {
 		t.Skip()
 	}
 	rng := rand.New(rand.NewPCG(*evalSeed, 0x77686972))
-	opts := synth.DefaultRandomOptions()
+	opts := sweepOptions()
 	var totBad, totEmpty, totN, totNear, totNearBad int
 	for i := range *evalN {
 		c, a, cfg, _, ok := nextCase(t, i, rng, opts)
