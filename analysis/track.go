@@ -42,7 +42,7 @@ type Track struct {
 	KernelDtS float64
 	// fine, when not nil, is the same rotor tracked with a frame half as
 	// long: a kernel half as wide, noisier samples. Fits of steps fast for
-	// the track's kernel are made on it (see fitPlans).
+	// the track's kernel are refitted on it (fineAlternative).
 	fine *Track
 	// Warnings collects what the tracker noticed (another blade count fits
 	// better, frames without motor, clipping, …).

@@ -434,6 +434,10 @@ func (tk *tracker) run(ctx context.Context, blades int, display bool) (*Track, *
 		if ft != nil {
 			ft.Warnings = nil
 			tr.fine = ft
+		} else if tk.progress != nil {
+			// No fine track (the frame is too short to halve): its share
+			// of the progress is done.
+			tk.progress(total, total)
 		}
 	}
 	if sourceMsg != "" {
