@@ -316,26 +316,31 @@ func clippingWarning(x []float32) string {
 
 // Stretch vote (voteStretches).
 const (
-	// octaveJumpTol bounds |ln(r/2)| for a ratio r between neighbouring
-	// valid samples to count as an octave jump.
+	// octaveJumpTol bounds |ln(r/n)| for a ratio r between neighbouring
+	// valid samples to count as a jump by a whole factor n (2 to
+	// maxSlipFactor): an octave, or a slip by the blade count to the
+	// shaft line's own comb.
 	octaveJumpTol = 0.2
+	// maxSlipFactor is the largest factor of a slip that is put back: the
+	// largest blade count the tracker reads.
+	maxSlipFactor = 5
 	// stretchFrames is the most frames read for one stretch's profile;
 	// stretchMinFrames the fewest for it to be read at all.
 	stretchFrames    = 200
 	stretchMinFrames = 20
-	// slipTol bounds |ln(r/2)| for the jumps into and out of a stretch
+	// slipTol bounds |ln(r/n)| for the jumps into and out of a stretch
 	// that is rescaled: a slip to another line of the same comb changes
-	// the reading by 2 exactly (but for the speed's change over a hop); a
+	// the reading by n exactly (but for the speed's change over a hop); a
 	// fast spin-up or step seen across a gap gives any ratio.
 	slipTol = 0.1
 )
 
-// stretch is a run of valid track samples between octave jumps: the
-// first valid sample from, the last to−1, n valid samples.
+// stretch is a run of valid track samples between jumps by whole factors:
+// the first valid sample from, the last to−1, n valid samples.
 type stretch struct{ from, to, n int }
 
-// octaveStretches splits the track's valid samples at its octave jumps
-// (octaveJumpTol).
+// octaveStretches splits the track's valid samples at its jumps by whole
+// factors 2 to maxSlipFactor (octaveJumpTol).
 func octaveStretches(tr *Track) []stretch {
 	var st []stretch
 	cur := stretch{from: -1}
@@ -344,7 +349,7 @@ func octaveStretches(tr *Track) []stretch {
 		if !tr.Valid(i) {
 			continue
 		}
-		if prev >= 0 && math.Abs(math.Abs(math.Log(tr.ShaftHz[i]/tr.ShaftHz[prev]))-math.Ln2) < octaveJumpTol {
+		if prev >= 0 && slipFactor(tr.ShaftHz[i]/tr.ShaftHz[prev], octaveJumpTol) > 0 {
 			cur.to = prev + 1
 			st = append(st, cur)
 			cur = stretch{from: -1}
@@ -363,8 +368,8 @@ func octaveStretches(tr *Track) []stretch {
 }
 
 // octaveExcursion tells whether stretch j (of at least stretchMinFrames
-// samples) sits an octave off both its neighbours, as the track is now,
-// and returns the ratio that puts it back (1/2 or 2/1).
+// samples) sits off both its neighbours by the same whole factor n, as
+// the track is now, and returns the ratio that puts it back (1/n or n/1).
 func octaveExcursion(tr *Track, st []stretch, j int) (num, den int, ok bool) {
 	if j < 1 || j+1 >= len(st) || st[j].n < stretchMinFrames {
 		return 0, 0, false
@@ -372,26 +377,37 @@ func octaveExcursion(tr *Track, st []stretch, j int) (num, den int, ok bool) {
 	c := st[j]
 	in := tr.ShaftHz[c.from] / tr.ShaftHz[st[j-1].to-1]
 	out := tr.ShaftHz[st[j+1].from] / tr.ShaftHz[c.to-1]
-	if (in > 1) == (out > 1) || !octaveSlip(in) || !octaveSlip(out) {
+	n := slipFactor(in, slipTol)
+	if (in > 1) == (out > 1) || n == 0 || slipFactor(out, slipTol) != n {
 		return 0, 0, false
 	}
 	if in > 1 {
-		return 1, 2, true
+		return 1, n, true
 	}
-	return 2, 1, true
+	return n, 1, true
 }
 
-// octaveSlip tells whether the ratio r between neighbouring samples is
-// within slipTol of 2 or ½.
-func octaveSlip(r float64) bool { return math.Abs(math.Abs(math.Log(r))-math.Ln2) < slipTol }
+// slipFactor returns the whole factor n (2 to maxSlipFactor) for which
+// |ln|r| − ln n| < tol, the nearest when several do, and 0 when none does.
+func slipFactor(r, tol float64) int {
+	lr := math.Abs(math.Log(r))
+	best, bestD := 0, tol
+	for n := 2; n <= maxSlipFactor; n++ {
+		if d := math.Abs(lr - math.Log(float64(n))); d < bestD {
+			best, bestD = n, d
+		}
+	}
+	return best
+}
 
-// voteStretches splits the track at its octave jumps (a ratio near 2 or ½
-// between neighbouring valid samples: the comb's salience cannot tell f
-// from 2f or f/2 frame by frame) and rescales a stretch that sits an
-// octave off both its neighbours (a jump up into it and down out of it,
-// or the reverse, each within slipTol of an octave): a shaft does not
-// jump an octave and back, a tracker that slips to another line of the
-// comb does. The stretch's own comb profile, read over its frames, must
+// voteStretches splits the track at its jumps by whole factors (a ratio
+// near 2 or ½ between neighbouring valid samples: the comb's salience
+// cannot tell f from 2f or f/2 frame by frame; or near B or 1/B: the comb
+// of f/B with B blades holds every line of f's) and rescales a stretch
+// that sits off both its neighbours by the same factor (a jump up into it
+// and down out of it, or the reverse, each within slipTol of the factor):
+// a shaft does not jump by a whole factor and back, a tracker that slips
+// to another line of the comb does. The stretch's own comb profile, read over its frames, must
 // show the comb at the rescaled speed (its reading at the track's blade
 // count at least checkMargin) and not speak against it (within tieMargin
 // of the current reading), and the result must lie inside the search
@@ -466,8 +482,12 @@ func (tk *tracker) voteStretches(ctx context.Context, tr *Track, rc dsp.STFTConf
 			tr.SigmaHz[i] *= r
 		}
 		tk.voted = true
-		msgs = append(msgs, fmt.Sprintf("shaft speed corrected by %s from %.2f s to %.2f s: the track jumped an octave there and back",
-			ratioString(num, den), tr.TimeS[c.from], tr.TimeS[c.to-1]))
+		by := "an octave"
+		if n := max(num, den); n != 2 {
+			by = fmt.Sprintf("by a factor of %d", n)
+		}
+		msgs = append(msgs, fmt.Sprintf("shaft speed corrected by %s from %.2f s to %.2f s: the track jumped %s there and back",
+			ratioString(num, den), tr.TimeS[c.from], tr.TimeS[c.to-1], by))
 	}
 	return msgs, nil
 }

@@ -20,9 +20,10 @@ func stepTrack(n int, levels []float64, gap int) *Track {
 	return tr
 }
 
-// The stretch vote's candidates: a stretch an octave off both neighbours
-// (a slip to another line of the comb and back), not one at an end, not a
-// step to another speed, not a jump of 1.8 (a fast change across a gap).
+// The stretch vote's candidates: a stretch an octave, or the blade count,
+// off both neighbours (a slip to another line of the comb and back), not
+// one at an end, not a step to another speed, not a jump of 1.8 or 2.35
+// (a fast change across a gap, another source), not two different factors.
 func TestOctaveExcursion(t *testing.T) {
 	for _, c := range []struct {
 		name     string
@@ -39,6 +40,10 @@ func TestOctaveExcursion(t *testing.T) {
 		{"up an octave and up again", []float64{100, 200, 400}, -1, 3, 1, 0, 0, false},
 		{"ratio 1.8 both ways", []float64{360, 200, 360}, -1, 3, 1, 0, 0, false},
 		{"octave and a step", []float64{400, 200, 300}, -1, 2, 1, 0, 0, false},
+		{"slip by 3 blades to the shaft line's comb and back", []float64{362, 120.7, 361}, -1, 3, 1, 3, 1, true},
+		{"slip up by 5 and back", []float64{60, 300, 61}, -1, 3, 1, 1, 5, true},
+		{"down by 3, up by 2", []float64{360, 120, 240}, -1, 3, 1, 0, 0, false},
+		{"another source at 2.35 times the speed", []float64{186, 448, 190}, -1, 3, 1, 0, 0, false},
 	} {
 		tr := stepTrack(30, c.levels, c.gap)
 		st := octaveStretches(tr)

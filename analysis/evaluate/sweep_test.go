@@ -159,6 +159,40 @@ func score(c synth.Case, rep *analysis.Report, withCommands bool) (ss []stepScor
 	return ss, falseSteps
 }
 
+// unmatched describes the reported steps that match no true step (as
+// score matches them without command times) and the true steps that no
+// reported step matches: direction, response start and speeds, for the
+// sweep's per-case lines.
+func unmatched(c synth.Case, rep *analysis.Report) string {
+	used := make([]bool, len(rep.Steps))
+	var b strings.Builder
+	for _, st := range c.Truth.Steps {
+		dir := analysis.Down
+		if st.Up() {
+			dir = analysis.Up
+		}
+		start := st.CommandS + st.DeadS
+		best, bestD := -1, 0.06
+		for j, r := range rep.Steps {
+			if d := math.Abs(r.ResponseStartS - start); !used[j] && r.Direction == dir && d < bestD {
+				best, bestD = j, d
+			}
+		}
+		if best < 0 {
+			fmt.Fprintf(&b, " {undetected %s %.2f s}", dir, start)
+			continue
+		}
+		used[best] = true
+	}
+	for j, u := range used {
+		if !u {
+			r := rep.Steps[j]
+			fmt.Fprintf(&b, " {false %s %.2f s %.0f→%.0f rpm τ %.1f ms}", r.Direction, r.ResponseStartS, r.RPMBefore.Value, r.RPMAfter.Value, 1e3*r.TauS.Value)
+		}
+	}
+	return b.String()
+}
+
 func quantile(x []float64, q float64) float64 {
 	if len(x) == 0 {
 		return math.NaN()
@@ -246,6 +280,7 @@ func TestSweep(t *testing.T) {
 		if fs > 0 || fsDet > 0 {
 			fmt.Fprintf(&line, " false: %d given, %d detected", fs, fsDet)
 		}
+		line.WriteString(unmatched(c, repDet))
 		t.Log(line.String())
 	}
 	if total == 0 {
