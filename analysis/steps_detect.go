@@ -49,7 +49,22 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	// there is left out, so that the spin-up is seen as one from
 	// standstill.
 	masked := false
-	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop)); lead > 0 {
+	tStart := tr.TimeS[0]
+	if f := firstSustained(y, hop); f > 0 && tr.TimeS[f]-tStart >= standstillMinGap {
+		if _, ok := risesFrom(y, f, W, hop, sigma, cfg.MinChangeFraction); ok {
+			// A spin-up from standstill after a silence that holds only a
+			// few stray frames (a click the tracker caught): those are
+			// left out, so that the silence is seen as one.
+			for i := range f {
+				y[i] = math.NaN()
+			}
+		}
+	}
+	seenSpinUp := false // the rotor is seen spinning up after a silence already
+	if first := firstValid(y); first >= 0 && tr.TimeS[first]-tStart >= standstillMinGap {
+		_, seenSpinUp = risesFrom(y, first, W, hop, sigma, cfg.MinChangeFraction)
+	}
+	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop)); lead > 0 && !seenSpinUp {
 		raw := slices.Clone(tr.ShaftHz)
 		held := false
 		for i := range lead {
@@ -58,7 +73,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		}
 		ym := medianFilter(raw, mh)
 		sm := robustNoise(ym, lag)
-		if _, ok := risesFrom(ym, firstValid(ym), W, sm, cfg.MinChangeFraction); ok && held {
+		if _, ok := risesFrom(ym, firstValid(ym), W, hop, sm, cfg.MinChangeFraction); ok && held {
 			y, sigma, masked = ym, sm, true
 		}
 	}
@@ -161,7 +176,6 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	sort.Ints(cands)
 
 	var plans []stepPlan
-	tStart := tr.TimeS[0]
 	first := firstValid(y)
 	if first < 0 {
 		return nil, []string{"no motor found anywhere in the track"}
@@ -169,7 +183,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	if tr.TimeS[first]-tStart >= standstillMinGap {
 		// Leading stretch without motor: a spin-up from standstill if the
 		// first part the tracker sees is still rising.
-		if a, ok := risesFrom(y, first, W, sigma, cfg.MinChangeFraction); ok {
+		if a, ok := risesFrom(y, first, W, hop, sigma, cfg.MinChangeFraction); ok {
 			t1 := tr.TimeS[first]
 			// Where the spin-up reaches 90 % of the speed it settles at
 			// (taken 0.5–0.7 s after the motor appears, or earlier when
@@ -189,7 +203,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			if masked {
 				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: the rotor is silent there (no harmonic comb stands out, or only mains hum), whatever line the tracker followed", t1))
 			}
-			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-0.5), onsetHi: t1, standstill: true, up: true, t90: t90,
+			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-spinUpLookbackS), onsetHi: t1, standstill: true, up: true, t90: t90,
 				seenFromS: t1, notes: notes})
 			// Drop candidates inside this spin-up.
 			for len(cands) > 0 && tr.TimeS[cands[0]] < t1+0.05 {
@@ -331,16 +345,68 @@ func firstValid(y []float64) int {
 
 // risesFrom reports whether the track rises where it begins at first (a
 // spin-up seen from its first frames): the median of the W samples after
-// the first W exceeds that of the first W/2 by more than the noise and
-// minFrac of the speed. a is the level the tracker first saw.
-func risesFrom(y []float64, first, W int, sigma, minFrac float64) (a float64, ok bool) {
+// the first W exceeds that of the first W/2 (a, the level the tracker
+// first saw) by more than the noise and either minFrac of the speed or,
+// for a slow spin-up seen late (a quiet rotor is found only near its final
+// speed), spinUpShare of the rise to the level spinUpSettleS on, which
+// must itself exceed minFrac of that level. An exponential approach with τ
+// up to about 0.7 s gives that share; a steady ramp does not.
+func risesFrom(y []float64, first, W int, hop, sigma, minFrac float64) (a float64, ok bool) {
 	if first < 0 {
 		return math.NaN(), false
 	}
 	a = windowMedian(y, first, first+W/2)
 	b := windowMedian(y, first+W, first+2*W)
-	return a, !math.IsNaN(a) && !math.IsNaN(b) && b-a > math.Max(detectNoiseK*sigma, minFrac*b)
+	if math.IsNaN(a) || math.IsNaN(b) || b-a <= detectNoiseK*sigma {
+		return a, false
+	}
+	if b-a > minFrac*b {
+		return a, true
+	}
+	s := windowMedian(y, first+int(spinUpSettleS[0]/hop), first+int(spinUpSettleS[1]/hop))
+	return a, s-a > minFrac*s && b-a >= spinUpShare*(s-a)
 }
+
+// A spin-up seen late: the level it settles at is read spinUpSettleS after
+// the tracker first sees it; spinUpShare of the rise to it must come in the
+// first W samples. For an exponential approach seen from its first frames
+// the share is (e^{−W/4τ} − e^{−3W/2τ}) / (e^{−W/4τ} − e^{−0.6/τ}) with the
+// window W = 60 ms: 0.25 at τ = 0.3 s, 0.16 at τ = 1 s; a ramp gives 0.13.
+var spinUpSettleS = [2]float64{0.5, 0.7}
+
+const spinUpShare = 0.18
+
+// spinUpLookbackS is how long before the tracker first sees a spin-up from
+// standstill its onset may lie: a quiet rotor may be found only near its
+// final speed, 90 % of the way up after 2.3 τ (0.7 s at τ = 0.3 s).
+const spinUpLookbackS = 0.7
+
+// firstSustained returns the first valid sample of y that begins a stretch
+// of sustainedS in which at least 80 % of the samples are valid (a rotor
+// the tracker follows, not a click or a burst of noise it caught for a
+// few frames), −1 when there is none.
+func firstSustained(y []float64, hop float64) int {
+	L := max(2, int(math.Round(sustainedS/hop)))
+	valid := 0
+	for i := range y {
+		if !math.IsNaN(y[i]) {
+			valid++
+		}
+		if i >= L && !math.IsNaN(y[i-L]) {
+			valid--
+		}
+		if j := i - L + 1; j >= 0 && float64(valid) >= 0.8*float64(L) {
+			for ; j <= i; j++ {
+				if !math.IsNaN(y[j]) {
+					return j
+				}
+			}
+		}
+	}
+	return -1
+}
+
+const sustainedS = 0.1
 
 // Leading stretch without a harmonic comb (common practice: a confidence
 // near zero means no line stands out of the spectrum).
