@@ -161,16 +161,27 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 		if math.IsNaN(a) || math.IsNaN(b) || math.Abs(a-b) <= math.Max(detectNoiseK*sigma, 0.5*cfg.MinChangeFraction*math.Max(math.Abs(a), math.Abs(b))) {
 			continue
 		}
-		c := (g0 + g1) / 2
+		// The gap's candidate is a run of D at its edge or, where there is
+		// none, the gap's middle. A change the same way within 2W of an
+		// edge that is less than half the change across the gap is the
+		// same transition seen starting before the gap or going on after
+		// it: kept, it would cut the gap's plateau windows short at the
+		// midpoint between the two and itself measure a part of the
+		// change only.
 		dup := false
+		kept := cands[:0]
 		for _, q := range cands {
+			if q >= g0-2*W && q <= g1+2*W && (D[q] > 0) == (a > b) && math.Abs(D[q]) < 0.5*math.Abs(a-b) {
+				continue
+			}
 			if q >= g0-W && q <= g1+W {
 				dup = true
-				break
 			}
+			kept = append(kept, q)
 		}
+		cands = kept
 		if !dup {
-			cands = append(cands, c)
+			cands = append(cands, (g0+g1)/2)
 		}
 	}
 	sort.Ints(cands)

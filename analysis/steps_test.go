@@ -53,6 +53,24 @@ func TestDetectSteps(t *testing.T) {
 			want: []want{{0.81, Up, 0.04}},
 		},
 		{
+			// The tracker loses the line for 150 ms as the fall begins
+			// and finds it again a third of the way down, still falling.
+			name: "slow fall lost as it begins",
+			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2.2, startHz: 484, noiseHz: 0.3,
+				steps:    []synthStep{{commandS: 0.9, deadS: 0.008, tauS: 0.107, toHz: 232}},
+				dropouts: [][2]float64{{0.92, 1.07}}},
+			want: []want{{0.908, Down, 0.107}},
+		},
+		{
+			// The same, lost 40 ms into the fall: the change shows on
+			// both sides of the gap.
+			name: "slow fall lost in its course",
+			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2.2, startHz: 450, noiseHz: 0.3,
+				steps:    []synthStep{{commandS: 0.9, deadS: 0.008, tauS: 0.12, toHz: 242}},
+				dropouts: [][2]float64{{0.948, 1.09}}},
+			want: []want{{0.908, Down, 0.12}},
+		},
+		{
 			// Lost single frames in the tail of a slow fall: the two-window
 			// difference sees across them, so they must not start a
 			// second change that cuts the fall's fit short.
