@@ -64,7 +64,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	if first := firstValid(y); first >= 0 && tr.TimeS[first]-tStart >= standstillMinGap {
 		_, seenSpinUp = risesFrom(y, first, W, hop, sigma, cfg.MinChangeFraction)
 	}
-	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop)); lead > 0 && !seenSpinUp {
+	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop), leadingLine(tr, hop)); lead > 0 && !seenSpinUp {
 		raw := slices.Clone(tr.ShaftHz)
 		held := false
 		for i := range lead {
@@ -212,7 +212,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 			notes := []string{fmt.Sprintf("starts from standstill: the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(a))}
 			if masked {
-				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: the rotor is silent there (no harmonic comb stands out, or only mains hum), whatever line the tracker followed", t1))
+				notes = append(notes, fmt.Sprintf("the track before %.3f s is left out: the rotor is silent there (no harmonic comb stands out, or only mains hum or another steady line), whatever line the tracker followed", t1))
 			}
 			plans = append(plans, stepPlan{commandS: math.NaN(), onsetLo: math.Max(tStart, t1-spinUpLookbackS), onsetHi: t1, standstill: true, up: true, t90: t90,
 				seenFromS: t1, notes: notes})
@@ -498,8 +498,10 @@ const (
 // leadingMains returns how many samples at the start of tr hold a mains-hum
 // line before a spin-up: a stretch of at least standstillMinGap on a line
 // whose blade-pass frequency is a harmonic of 50 or 60 Hz and that holds
-// it within mainsRelTol, ended by at least mainsGapS without a track, after
-// which the track resumes at least mainsJump times faster. Hum is a comb
+// it within mainsRelTol, ended either by at least mainsGapS without a
+// track, after which the track resumes at least mainsJump times faster, or
+// by a jump straight to a track at least mainsCross times faster (the
+// rotor's rising line outsounding the hum as it passes it). Hum is a comb
 // of its own, often as clear as a quiet rotor's, so leadingNoComb does not
 // see it; the tracker holds it until the spinning rotor outsounds it. It
 // returns 0 when there is no such stretch.
@@ -507,6 +509,12 @@ func leadingMains(tr *Track, hop float64) int {
 	n := tr.Len()
 	gap := max(1, int(math.Round(mainsGapS/hop)))
 	end := firstRun(n, gap, func(i int) bool { return !tr.Valid(i) })
+	jump := jumpOffLine(tr, mainsCross)
+	if jump > 0 && (end <= 0 || jump < end) {
+		end = jump
+	} else {
+		jump = -1
+	}
 	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
 		return 0
 	}
@@ -536,6 +544,9 @@ func leadingMains(tr *Track, hop float64) int {
 	if !mains {
 		return 0
 	}
+	if jump > 0 {
+		return jump
+	}
 	for i := end; i < n; i++ {
 		if tr.Valid(i) {
 			if tr.ShaftHz[i] < mainsJump*m {
@@ -546,6 +557,77 @@ func leadingMains(tr *Track, hop float64) int {
 	}
 	return 0
 }
+
+// mainsCross: see leadingMains.
+const mainsCross = 1.2
+
+// jumpOffLine returns the first valid sample of tr that differs from the
+// valid sample before it by a factor of at least ratio (up) or 1/ratio
+// (down), −1 when there is none.
+func jumpOffLine(tr *Track, ratio float64) int {
+	prev := -1
+	for i := range tr.ShaftHz {
+		if !tr.Valid(i) {
+			continue
+		}
+		if prev >= 0 {
+			if r := tr.ShaftHz[i] / tr.ShaftHz[prev]; r >= ratio || r <= 1/ratio {
+				return i
+			}
+		}
+		prev = i
+	}
+	return -1
+}
+
+// leadingLine returns how many samples at the start of tr hold one steady
+// line (within lineRelTol of its median in the median absolute deviation)
+// for at least standstillMinGap, which the track leaves by a jump down to
+// below lineDrop of it: a rotor found only once it outsounds another
+// steady sound (a tone, a second machine) that the tracker held while the
+// rotor stood still, found at a lower speed than that sound's line. A
+// motor's own speed does not fall by a jump and then rise (detectSteps
+// asks the rise of what follows). It returns 0 when there is no such
+// stretch.
+func leadingLine(tr *Track, hop float64) int {
+	end := jumpOffLine(tr, 1/lineDrop)
+	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap || tr.ShaftHz[end] > lineDrop*tr.ShaftHz[prevValid(tr, end)] {
+		return 0
+	}
+	var lead []float64
+	for i := range end {
+		if tr.Valid(i) {
+			lead = append(lead, tr.ShaftHz[i])
+		}
+	}
+	if float64(len(lead)) < 0.5*standstillMinGap/hop {
+		return 0
+	}
+	m := median(lead)
+	dev := make([]float64, len(lead))
+	for i, f := range lead {
+		dev[i] = math.Abs(f - m)
+	}
+	if !(median(dev) <= lineRelTol*m) {
+		return 0
+	}
+	return end
+}
+
+// prevValid returns the last valid sample of tr before i, −1 when none.
+func prevValid(tr *Track, i int) int {
+	for j := i - 1; j >= 0; j-- {
+		if tr.Valid(j) {
+			return j
+		}
+	}
+	return -1
+}
+
+const (
+	lineRelTol = 0.003 // as mainsRelTol: a tone or a machine held steady
+	lineDrop   = 0.8   // the track after the jump starts below this share of the line
+)
 
 // limitDetectedWindows judges each detected change on the stretch its own
 // transition needs: fifteen time constants estimated from its 10–90 % time

@@ -108,6 +108,24 @@ func TestDetectSteps(t *testing.T) {
 			want: []want{{0.2, Up, 0.08}, {1.21, Up, 0.03}},
 		},
 		{
+			// Before the rotor outsounds it, the tracker holds a steady
+			// tone's line above the rising speed, then jumps down to it.
+			name: "start from standstill behind a steady line above",
+			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2.2, startHz: 320, noiseHz: 0.3, standstillUntilS: 0.54,
+				steps: []synthStep{{commandS: 0.54, deadS: 0, tauS: 0.118, toHz: 320}, {commandS: 1.4, deadS: 0.01, tauS: 0.03, toHz: 250}}},
+			blips: [][3]float64{{0, 0.65, 348}},
+			want:  []want{{0.54, Up, 0.118}, {1.41, Down, 0.03}},
+		},
+		{
+			// The same behind mains hum (blade-pass 100 Hz = 2 × 50 Hz)
+			// that the rising speed passes: a jump up onto the rotor.
+			name: "start from standstill behind hum it passes",
+			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2.2, startHz: 99, noiseHz: 0.2, standstillUntilS: 0.62,
+				steps: []synthStep{{commandS: 0.62, deadS: 0, tauS: 0.106, toHz: 99}, {commandS: 1.5, deadS: 0.01, tauS: 0.04, toHz: 126}}},
+			blips: [][3]float64{{0, 0.724, 50}},
+			want:  []want{{0.62, Up, 0.106}, {1.51, Up, 0.04}},
+		},
+		{
 			// A click the tracker held for 60 ms in the silence before.
 			name: "start from standstill after a stray frame",
 			spec: synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2.2, startHz: 300, noiseHz: 0.5, standstillUntilS: 0.7,
