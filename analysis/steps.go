@@ -98,6 +98,9 @@ func AnalyseSteps(tr *Track, cfg StepConfig) ([]StepResult, []string) {
 		for i := range plans {
 			markStandstill(&plans[i], tr)
 		}
+		if len(plans) > 0 {
+			markBehindLine(&plans[0], tr, &k, cfg)
+		}
 	} else {
 		var dw []string
 		plans, dw = detectSteps(tr, &k, cfg)
@@ -416,6 +419,31 @@ func markStandstill(p *stepPlan, tr *Track) {
 	}
 	p.standstill = true
 	p.notes = append(p.notes, fmt.Sprintf("no motor in the track before the command: a start from standstill, the speed before is taken as 0 rpm; the tracker saw the rise only from %.0f rpm", RPM(firstValid)))
+}
+
+// markBehindLine treats the first commanded step as a start from
+// standstill when what the track holds at its start is not the rotor (no
+// comb, mains hum or another steady line: leadingNotRotor) until after
+// the dead-time search (a motor that answers the command leaves its line
+// within it), and the track rises where it leaves it: the rotor spun up
+// behind that sound and was found only once it outsounded it. Only the
+// track after that is fitted, with r0 = 0.
+func markBehindLine(p *stepPlan, tr *Track, k *fopdtKernel, cfg StepConfig) {
+	if p.standstill {
+		return
+	}
+	sc := newDetectScales(tr, k)
+	lead := leadingNotRotor(tr, sc.hop)
+	if lead <= 0 || lead >= tr.Len() || tr.TimeS[lead] <= p.commandS+cfg.MaxDeadTimeS {
+		return
+	}
+	ym, _, first, ok := sc.spinUpAfter(tr, lead, cfg.MinChangeFraction)
+	if !ok || tr.TimeS[first]+k.right > p.toS-minPostWindowS/2 {
+		return
+	}
+	p.standstill = true
+	p.fromS = tr.TimeS[first] + k.right
+	p.notes = append(p.notes, fmt.Sprintf("taken as a start from standstill: until %.3f s the track holds another sound (no harmonic comb stands out, or mains hum or another steady line), then rises from %.0f rpm as a spin-up does; only the track after it is fitted", tr.TimeS[first], RPM(ym[first])))
 }
 
 // withoutStretch returns a copy of tr whose samples in [from, to] are NaN

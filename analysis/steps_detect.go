@@ -37,13 +37,11 @@ const (
 // detectSteps returns planned steps (without command times) and warnings.
 func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []string) {
 	n := tr.Len()
-	hop := trackHop(tr)
 	var warns []string
-	mh := max(1, int(math.Round(detectMedianS/hop/2)))
-	y := medianFilter(tr.ShaftHz, mh)
-	lag := max(1, int(math.Ceil(k.spanS()/hop)))
+	sc := newDetectScales(tr, k)
+	hop, lag, W := sc.hop, sc.lag, sc.W
+	y := medianFilter(tr.ShaftHz, sc.mh)
 	sigma := robustNoise(y, lag)
-	W := max(3, int(math.Round(detectWindowS/hop)))
 	// A leading stretch without a harmonic comb, or on mains hum, that ends
 	// in a rise is a silent rotor spinning up: what the tracker followed
 	// there is left out, so that the spin-up is seen as one from
@@ -64,16 +62,8 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	if first := firstValid(y); first >= 0 && tr.TimeS[first]-tStart >= standstillMinGap {
 		_, seenSpinUp = risesFrom(y, first, W, hop, sigma, cfg.MinChangeFraction)
 	}
-	if lead := max(leadingNoComb(tr, hop), leadingMains(tr, hop), leadingLine(tr, hop)); lead > 0 && !seenSpinUp {
-		raw := slices.Clone(tr.ShaftHz)
-		held := false
-		for i := range lead {
-			held = held || !math.IsNaN(raw[i])
-			raw[i] = math.NaN()
-		}
-		ym := medianFilter(raw, mh)
-		sm := robustNoise(ym, lag)
-		if _, ok := risesFrom(ym, firstValid(ym), W, hop, sm, cfg.MinChangeFraction); ok && held {
+	if lead := leadingNotRotor(tr, hop); lead > 0 && !seenSpinUp {
+		if ym, sm, _, ok := sc.spinUpAfter(tr, lead, cfg.MinChangeFraction); ok {
 			y, sigma, masked = ym, sm, true
 		}
 	}
@@ -352,6 +342,48 @@ func firstValid(y []float64) int {
 		}
 	}
 	return -1
+}
+
+// detectScales are the sample counts detection works with: the hop, the
+// running median's half-length mh, the lag over which frame errors are
+// nearly uncorrelated and the window W of the two-window difference.
+type detectScales struct {
+	hop        float64
+	mh, lag, W int
+}
+
+func newDetectScales(tr *Track, k *fopdtKernel) detectScales {
+	hop := trackHop(tr)
+	return detectScales{hop: hop,
+		mh:  max(1, int(math.Round(detectMedianS/hop/2))),
+		lag: max(1, int(math.Ceil(k.spanS()/hop))),
+		W:   max(3, int(math.Round(detectWindowS/hop)))}
+}
+
+// leadingNotRotor returns how many samples at the start of tr are not the
+// rotor: a stretch without a comb, on mains hum or on another steady line
+// (leadingNoComb, leadingMains, leadingLine), 0 when there is none.
+func leadingNotRotor(tr *Track, hop float64) int {
+	return max(leadingNoComb(tr, hop), leadingMains(tr, hop), leadingLine(tr, hop))
+}
+
+// spinUpAfter leaves out the first lead samples of tr (what the tracker
+// followed while the rotor stood still) and tells whether the track then
+// rises where it begins (risesFrom): a spin-up seen from there. It returns
+// the median-filtered track without them, its noise, the first sample
+// left, and false when nothing was left out or the track does not rise.
+func (sc detectScales) spinUpAfter(tr *Track, lead int, minFrac float64) (ym []float64, sigma float64, first int, ok bool) {
+	raw := slices.Clone(tr.ShaftHz)
+	held := false
+	for i := range min(lead, len(raw)) {
+		held = held || !math.IsNaN(raw[i])
+		raw[i] = math.NaN()
+	}
+	ym = medianFilter(raw, sc.mh)
+	sigma = robustNoise(ym, sc.lag)
+	first = firstValid(ym)
+	_, ok = risesFrom(ym, first, sc.W, sc.hop, sigma, minFrac)
+	return ym, sigma, first, ok && held
 }
 
 // risesFrom reports whether the track rises where it begins at first (a

@@ -262,16 +262,19 @@ func TestStandstillBehindAnotherLine(t *testing.T) {
 	// A spin-up from 0 at a given command time, but while the rotor is
 	// quiet the tracker follows a steady sound and joins the rotor only
 	// where its speed passes that line: 76 ms after the command for a line
-	// at 150 Hz, 182 ms (past the dead-time search) at 250 Hz (invented
-	// track). The step must come out as a spin-up from 0 with the right τ
-	// and θ, not as a step from the line with a long dead time.
-	for _, lineHz := range []float64{150, 250} {
+	// at 150 Hz, 182 ms (past the dead-time search) at 250 Hz; or, for a
+	// line at 400 Hz above the final speed, where the rotor outsounds it,
+	// 250 ms after the command at 86 % of its speed (invented track). The
+	// step must come out as a spin-up from 0 with the right τ and θ, not
+	// as a step from the line with a long dead time.
+	for _, c := range []struct{ lineHz, untilS float64 }{{150, 0}, {250, 0}, {400, 0.55}} {
+		lineHz := c.lineHz
 		spec := synthTrackSpec{hopS: 0.003, windowS: 0.04, durS: 1.4, startHz: 0, noiseHz: 0.3, standstillUntilS: 0.305,
 			steps: []synthStep{{commandS: 0.3, deadS: 0.005, tauS: 0.12, toHz: 320}}}
 		tr := spec.track(rand.New(rand.NewPCG(12, 12)))
 		rng := rand.New(rand.NewPCG(13, 13))
 		for i, ts := range tr.TimeS {
-			if math.IsNaN(tr.ShaftHz[i]) || spec.trueHz(ts) < lineHz {
+			if math.IsNaN(tr.ShaftHz[i]) || (c.untilS == 0 && spec.trueHz(ts) < lineHz) || ts < c.untilS {
 				tr.ShaftHz[i] = lineHz + 0.2*rng.NormFloat64()
 			}
 		}
