@@ -2,6 +2,11 @@ module whirlfit
 
 go 1.26
 
+require cmdenv.whirlfit.invalid v0.0.0
+
+// A folder of this repository (app/cmdenv): see its package comment.
+replace cmdenv.whirlfit.invalid => ./app/cmdenv
+
 require (
 	codeberg.org/go-fonts/liberation v0.5.0 // indirect
 	codeberg.org/go-latex/latex v0.2.0 // indirect

@@ -26,6 +26,8 @@ import (
 	"os/signal"
 	"sort"
 	"strings"
+
+	"cmdenv.whirlfit.invalid"
 )
 
 // command is one subcommand. run parses its own flags from args and writes
@@ -47,6 +49,7 @@ func register(c command) {
 }
 
 func main() {
+	cmdenv.Restore()
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 	defer stop()
 	os.Exit(run(ctx, os.Args[1:], os.Stdout, os.Stderr))

@@ -1,0 +1,3 @@
+module cmdenv.whirlfit.invalid
+
+go 1.26
