@@ -550,21 +550,8 @@ func leadingMains(tr *Track, hop float64) int {
 	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap {
 		return 0
 	}
-	var lead []float64
-	for i := range end {
-		if tr.Valid(i) {
-			lead = append(lead, tr.ShaftHz[i])
-		}
-	}
-	if len(lead) < 8 {
-		return 0
-	}
-	m := median(lead)
-	dev := make([]float64, len(lead))
-	for i, f := range lead {
-		dev[i] = math.Abs(f - m)
-	}
-	if !(median(dev) <= mainsRelTol*m) {
+	m, nv, steady := steadyLine(tr, end, mainsRelTol)
+	if nv < 8 || !steady {
 		return 0
 	}
 	bpf := float64(max(tr.Blades, 1)) * m
@@ -626,24 +613,31 @@ func leadingLine(tr *Track, hop float64) int {
 	if end <= 0 || tr.TimeS[end]-tr.TimeS[0] < standstillMinGap || tr.ShaftHz[end] > lineDrop*tr.ShaftHz[prevValid(tr, end)] {
 		return 0
 	}
+	if _, nv, steady := steadyLine(tr, end, lineRelTol); float64(nv) < 0.5*standstillMinGap/hop || !steady {
+		return 0
+	}
+	return end
+}
+
+// steadyLine returns the median m of the valid samples of tr before end,
+// how many there are, and whether their median absolute deviation from m
+// is at most relTol·m (one line held steady).
+func steadyLine(tr *Track, end int, relTol float64) (m float64, n int, steady bool) {
 	var lead []float64
 	for i := range end {
 		if tr.Valid(i) {
 			lead = append(lead, tr.ShaftHz[i])
 		}
 	}
-	if float64(len(lead)) < 0.5*standstillMinGap/hop {
-		return 0
+	if len(lead) == 0 {
+		return math.NaN(), 0, false
 	}
-	m := median(lead)
+	m = median(lead)
 	dev := make([]float64, len(lead))
 	for i, f := range lead {
 		dev[i] = math.Abs(f - m)
 	}
-	if !(median(dev) <= lineRelTol*m) {
-		return 0
-	}
-	return end
+	return m, len(lead), median(dev) <= relTol*m
 }
 
 // prevValid returns the last valid sample of tr before i, −1 when none.
