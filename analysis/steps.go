@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sort"
 	"sync"
 )
@@ -182,10 +183,17 @@ func fitPlans(tr *Track, k *fopdtKernel, hop float64, plans []stepPlan, cfg Step
 						continue
 					}
 				}
-				if errs[i] == nil {
-					// Taken in at the end (useFine): detection's tests read
-					// the track's own fit.
-					res.fine = fineAlternative(tr, ksd, plans[i], res, cfg, uint64(i))
+				if errs[i] != nil {
+					continue
+				}
+				// Taken in at the end (useFine): detection's tests read the
+				// track's own fit.
+				res.fine = fineAlternative(tr, ksd, plans[i], res, cfg, uint64(i))
+				if res.fine == nil && plans[i].hasCommand() && plans[i].heldToS <= plans[i].heldFromS {
+					// (The fine track holds the old line too: no refit on it.)
+					if alt, q := heldAlternative(tr, k, hop, plans[i], res, cfg, uint64(i)); alt != nil {
+						results[i], plans[i] = alt, q
+					}
 				}
 			}
 		})
@@ -366,6 +374,81 @@ func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, r
 	alt.Warnings = append(alt.Warnings, fmt.Sprintf("taken as a start from standstill: the track holds %.0f rpm until %.3f s, later than a motor answers, and then rises as a spin-up from 0 rpm would; the steady line before is taken as another sound the tracker followed while the rotor stood still", res.RPMBefore.Value, res.ResponseStartS))
 	return alt
 }
+
+// heldAlternative refits a commanded step where the track held the old
+// speed after the command and then jumped, as when the old line rings on
+// in a room and the tracker follows it until the rotor's moving line
+// outsounds it: the last sample still within heldNear of the change from
+// the old speed, at least half the window's span after the command, is
+// followed at once by one further away than heldJump of the change and
+// than 1.5 times the most that the window lets even an instantaneous
+// change move two samples that far apart (fopdtKernel.maxMass): a jump of
+// that size is the tracker's. The samples from the command to there that
+// sit at the old speed (within heldShare) are left out and the step
+// refitted; where the track moved away and came back, the moves stay. The
+// onset then follows from where the visible part of the transition starts
+// and how it rises. It returns nil (and p) when there is no such hold,
+// when the refit's time constant is at the floor of the search, its R² is
+// below detectMinR2, or its speeds before and after differ from the first
+// fit's by more than fineSameSpeed of the change.
+func heldAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, res *StepResult, cfg StepConfig, stepNo uint64) (*StepResult, stepPlan) {
+	r0, r1 := ShaftHz(res.RPMBefore.Value), ShaftHz(res.RPMAfter.Value)
+	change := r1 - r0
+	if !(math.Abs(change) > 0) {
+		return nil, p
+	}
+	held := -1
+	for i, t := range tr.TimeS {
+		if t < p.commandS || !tr.Valid(i) {
+			continue
+		}
+		if t > p.toS || math.Abs(tr.ShaftHz[i]-r0) >= 0.5*math.Abs(change) {
+			break
+		}
+		if math.Abs(tr.ShaftHz[i]-r0) <= heldNear*math.Abs(change) {
+			held = i
+		}
+	}
+	if held < 0 || tr.TimeS[held]-p.commandS < k.spanS()/2 {
+		return nil, p
+	}
+	next := held + 1
+	for next < tr.Len() && !tr.Valid(next) {
+		next++
+	}
+	if next >= tr.Len() || next-held > 2 {
+		return nil, p
+	}
+	jumpMin := math.Max(heldJump, 1.5*k.maxMass(tr.TimeS[next]-tr.TimeS[held]))
+	if math.Abs(tr.ShaftHz[next]-tr.ShaftHz[held]) < jumpMin*math.Abs(change) {
+		return nil, p
+	}
+	// Only the samples at the old speed are left out: where the track
+	// moved away and came back, the moves are the rotor's.
+	on := *tr
+	on.ShaftHz = slices.Clone(tr.ShaftHz)
+	for i := range held + 1 {
+		if tr.TimeS[i] >= p.commandS && math.Abs(tr.ShaftHz[i]-r0) <= heldShare*math.Abs(change) {
+			on.ShaftHz[i] = math.NaN()
+		}
+	}
+	q := p
+	q.notes = append(append([]string(nil), p.notes...), fmt.Sprintf("the tracker held the old speed between %.3f and %.3f s and then jumped (the old line ringing on in the room, typically); the samples at the old speed there are left out of the fit", p.commandS, tr.TimeS[held]))
+	alt, err := fitPlan(&on, k, hop, &q, cfg, stepNo)
+	if err != nil || alt.TauS.Value <= tauMinS*1.01 || alt.R2 < detectMinR2 ||
+		math.Abs(alt.RPMBefore.Value-res.RPMBefore.Value) > fineSameSpeed*math.Abs(RPM(change)) ||
+		math.Abs(alt.RPMAfter.Value-res.RPMAfter.Value) > fineSameSpeed*math.Abs(RPM(change)) {
+		return nil, p
+	}
+	return alt, q
+}
+
+// heldNear, heldShare, heldJump: see heldAlternative.
+const (
+	heldNear  = 0.2
+	heldShare = 0.1
+	heldJump  = 0.4
+)
 
 // fineAlternative refits a step on the fine track (Track.fine) when its
 // time constant is short for the track's kernel: under fineTauKernels

@@ -487,3 +487,36 @@ func TestStandstillBehindMainsHum(t *testing.T) {
 		}
 	}
 }
+
+func TestCommandedStepBehindHeldLine(t *testing.T) {
+	// The old line rings on in a room and the tracker holds it for 60 ms
+	// after the onset, then jumps onto the moving rotor, 78 % of the way
+	// down (invented track). The first fit reads a jump (τ at the floor of
+	// its search, θ at the jump); the samples held are left out and the
+	// step refitted.
+	spec := synthTrackSpec{hopS: 0.0025, windowS: 0.04, durS: 2, startHz: 280, noiseHz: 0.3,
+		steps: []synthStep{{commandS: 1.0, deadS: 0.004, tauS: 0.04, toHz: 200}}}
+	tr := spec.track(rand.New(rand.NewPCG(41, 41)))
+	rng := rand.New(rand.NewPCG(42, 42))
+	for i, ts := range tr.TimeS {
+		if ts >= 1.0 && ts < 1.064 {
+			tr.ShaftHz[i] = 280 + 0.3*rng.NormFloat64()
+		}
+	}
+	res, _ := AnalyseSteps(tr, StepConfig{CommandTimesS: []float64{1.0}, Bootstrap: -1})
+	if len(res) != 1 {
+		t.Fatalf("%d steps, want 1", len(res))
+	}
+	r := res[0]
+	t.Logf("τ %.4f s [%.4f, %.4f], θ %.4f s [%.4f, %.4f], warnings %q", r.TauS.Value, r.TauS.CI95[0], r.TauS.CI95[1],
+		r.DeadTimeS.Value, r.DeadTimeS.CI95[0], r.DeadTimeS.CI95[1], r.Warnings)
+	if math.Abs(r.TauS.Value/0.04-1) > 0.2 || math.Abs(r.DeadTimeS.Value-0.004) > 0.01 {
+		t.Errorf("τ %.4f s, θ %.4f s; want 0.04 s ± 20 %%, 0.004 ± 0.01 s", r.TauS.Value, r.DeadTimeS.Value)
+	}
+	if !(r.TauS.CI95[0] <= 0.04 && 0.04 <= r.TauS.CI95[1]) {
+		t.Errorf("τ interval [%.4f, %.4f] s leaves out the true 0.04 s", r.TauS.CI95[0], r.TauS.CI95[1])
+	}
+	if !hasWarning(r.Warnings, "held the old speed") {
+		t.Errorf("warnings %q do not say the held samples were left out", r.Warnings)
+	}
+}
