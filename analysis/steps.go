@@ -377,8 +377,8 @@ func standstillAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, r
 
 // heldAlternative refits a commanded step where the track held the old
 // speed after the command and then jumped, as when the old line rings on
-// in a room and the tracker follows it until the rotor's moving line
-// outsounds it: the last sample still within heldNear of the change from
+// in a room (common practice, as for heldBefore) and the tracker follows
+// it until the rotor's moving line outsounds it: the last sample still within heldNear of the change from
 // the old speed, at least half the window's span after the command, is
 // followed at once by one further away than heldJump of the change and
 // than 1.5 times the most that the window lets even an instantaneous
@@ -398,11 +398,12 @@ func heldAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, res *St
 		return nil, p
 	}
 	held := -1
-	for i, t := range tr.TimeS {
-		if t < p.commandS || !tr.Valid(i) {
+	i0 := indexAt(tr.TimeS, p.commandS)
+	for i := i0; i < tr.Len() && tr.TimeS[i] <= p.toS; i++ {
+		if !tr.Valid(i) {
 			continue
 		}
-		if t > p.toS || math.Abs(tr.ShaftHz[i]-r0) >= 0.5*math.Abs(change) {
+		if math.Abs(tr.ShaftHz[i]-r0) >= 0.5*math.Abs(change) {
 			break
 		}
 		if math.Abs(tr.ShaftHz[i]-r0) <= heldNear*math.Abs(change) {
@@ -425,19 +426,13 @@ func heldAlternative(tr *Track, k *fopdtKernel, hop float64, p stepPlan, res *St
 	}
 	// Only the samples at the old speed are left out: where the track
 	// moved away and came back, the moves are the rotor's.
-	on := *tr
-	on.ShaftHz = slices.Clone(tr.ShaftHz)
-	for i := range held + 1 {
-		if tr.TimeS[i] >= p.commandS && math.Abs(tr.ShaftHz[i]-r0) <= heldShare*math.Abs(change) {
-			on.ShaftHz[i] = math.NaN()
-		}
-	}
+	on := withoutSamples(tr, func(i int) bool {
+		return i >= i0 && i <= held && math.Abs(tr.ShaftHz[i]-r0) <= heldShare*math.Abs(change)
+	})
 	q := p
 	q.notes = append(append([]string(nil), p.notes...), fmt.Sprintf("the tracker held the old speed between %.3f and %.3f s and then jumped (the old line ringing on in the room, typically); the samples at the old speed there are left out of the fit", p.commandS, tr.TimeS[held]))
-	alt, err := fitPlan(&on, k, hop, &q, cfg, stepNo)
-	if err != nil || alt.TauS.Value <= tauMinS*1.01 || alt.R2 < detectMinR2 ||
-		math.Abs(alt.RPMBefore.Value-res.RPMBefore.Value) > fineSameSpeed*math.Abs(RPM(change)) ||
-		math.Abs(alt.RPMAfter.Value-res.RPMAfter.Value) > fineSameSpeed*math.Abs(RPM(change)) {
+	alt, err := fitPlan(on, k, hop, &q, cfg, stepNo)
+	if err != nil || alt.TauS.Value <= tauMinS*1.01 || alt.R2 < detectMinR2 || !sameSpeeds(alt, res) {
 		return nil, p
 	}
 	return alt, q
@@ -475,13 +470,18 @@ func fineAlternative(tr *Track, ksd float64, p stepPlan, res *StepResult, cfg St
 	if err != nil {
 		return nil
 	}
-	change := math.Abs(res.RPMAfter.Value - res.RPMBefore.Value)
-	if math.Abs(alt.RPMBefore.Value-res.RPMBefore.Value) > fineSameSpeed*change ||
-		math.Abs(alt.RPMAfter.Value-res.RPMAfter.Value) > fineSameSpeed*change ||
-		!(alt.TauS.Value < fineTauKernels*ksd) || alt.TauS.Value <= tauMinS*1.01 {
+	if !sameSpeeds(alt, res) || !(alt.TauS.Value < fineTauKernels*ksd) || alt.TauS.Value <= tauMinS*1.01 {
 		return nil
 	}
 	return alt
+}
+
+// sameSpeeds reports whether a refit alt finds the speeds before and after
+// the step that res found, within fineSameSpeed of res's change.
+func sameSpeeds(alt, res *StepResult) bool {
+	change := math.Abs(res.RPMAfter.Value - res.RPMBefore.Value)
+	return math.Abs(alt.RPMBefore.Value-res.RPMBefore.Value) <= fineSameSpeed*change &&
+		math.Abs(alt.RPMAfter.Value-res.RPMAfter.Value) <= fineSameSpeed*change
 }
 
 // markStandstill treats a commanded step with no motor in the track before
@@ -532,14 +532,20 @@ func markBehindLine(p *stepPlan, tr *Track, k *fopdtKernel, cfg StepConfig) {
 // withoutStretch returns a copy of tr whose samples in [from, to] are NaN
 // (no motor found), the other fields shared.
 func withoutStretch(tr *Track, from, to float64) *Track {
-	out := *tr
-	out.ShaftHz = append([]float64(nil), tr.ShaftHz...)
-	for i, t := range tr.TimeS {
-		if t >= from && t <= to {
-			out.ShaftHz[i] = math.NaN()
+	return withoutSamples(tr, func(i int) bool { return tr.TimeS[i] >= from && tr.TimeS[i] <= to })
+}
+
+// withoutSamples returns a copy of tr whose samples i for which out(i)
+// holds are NaN (no motor found), the other fields shared.
+func withoutSamples(tr *Track, out func(i int) bool) *Track {
+	c := *tr
+	c.ShaftHz = slices.Clone(tr.ShaftHz)
+	for i := range c.ShaftHz {
+		if out(i) {
+			c.ShaftHz[i] = math.NaN()
 		}
 	}
-	return &out
+	return &c
 }
 
 // trackHop returns the median sample spacing.

@@ -48,8 +48,9 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 	// standstill.
 	masked := false
 	tStart := tr.TimeS[0]
-	if f := firstSustained(y, hop); f > 0 && tr.TimeS[f]-tStart >= standstillMinGap {
-		if _, ok := risesFrom(y, f, W, hop, sigma, cfg.MinChangeFraction); ok {
+	seenSpinUp := false // the rotor is seen spinning up after a silence already
+	if f := firstSustained(y, hop); f > firstValid(y) && tr.TimeS[f]-tStart >= standstillMinGap {
+		if _, seenSpinUp = risesFrom(y, f, W, hop, sigma, cfg.MinChangeFraction); seenSpinUp {
 			// A spin-up from standstill after a silence that holds only a
 			// few stray frames (a click the tracker caught): those are
 			// left out, so that the silence is seen as one.
@@ -58,8 +59,7 @@ func detectSteps(tr *Track, k *fopdtKernel, cfg StepConfig) ([]stepPlan, []strin
 			}
 		}
 	}
-	seenSpinUp := false // the rotor is seen spinning up after a silence already
-	if first := firstValid(y); first >= 0 && tr.TimeS[first]-tStart >= standstillMinGap {
+	if first := firstValid(y); !seenSpinUp && first >= 0 && tr.TimeS[first]-tStart >= standstillMinGap {
 		_, seenSpinUp = risesFrom(y, first, W, hop, sigma, cfg.MinChangeFraction)
 	}
 	if lead := leadingNotRotor(tr, hop); lead > 0 && !seenSpinUp {

@@ -322,7 +322,7 @@ const (
 	// shaft line's own comb.
 	octaveJumpTol = 0.2
 	// maxSlipFactor is the largest factor of a slip that is put back: the
-	// largest blade count the tracker reads.
+	// largest ratio the comb profile can check (checkRatios).
 	maxSlipFactor = 5
 	// stretchFrames is the most frames read for one stretch's profile;
 	// stretchMinFrames the fewest for it to be read at all.
