@@ -9,7 +9,7 @@ import (
 	"cmdenv.whirlfit.invalid"
 )
 
-// Under LANG=C.UTF-8 (Debian's and most containers' default) the window
+// Under LANG=C.UTF-8 (this build machine's setting) the window
 // toolkit's locale lookup used to print "Fyne error: Error parsing user
 // locale C" on every run (see package cmdenv). The test runs this test
 // binary again with that setting: its packages, the toolkit's among them,

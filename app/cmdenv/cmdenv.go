@@ -1,9 +1,10 @@
 // Package cmdenv runs before the window toolkit's packages are initialised
 // and hides one locale setting from them for that moment.
 //
-// Debian, Ubuntu and most container images set LANG=C.UTF-8. The
-// toolkit's locale lookup (github.com/jeandeaual/go-locale, through
-// fyne.io/fyne/v2/lang) takes "C" and "POSIX" for "no locale" but reads
+// Many Linux machines run with LANG=C.UTF-8: this project's build machine
+// does, and it is, from memory, the usual setting of Debian-based
+// container images. The toolkit's locale lookup
+// (github.com/jeandeaual/go-locale, through fyne.io/fyne/v2/lang) takes "C" and "POSIX" for "no locale" but reads
 // "C.UTF-8" as the language tag "C", which does not parse, and so every
 // run of every command printed three lines of "Fyne error: Error parsing
 // user locale C" on standard error. The toolkit reads the locale once,
